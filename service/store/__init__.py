@@ -1,0 +1,1 @@
+"""Persistence: SQLModel tables, repositories (all SQL lives here), unit of work, audit chain."""
