@@ -13,6 +13,7 @@ from service import __version__
 from service.config import Settings, get_settings
 from service.store.engine import make_engine
 from service.store.migrations import current_revision, ensure_at_head, head_revision
+from service.web.api import install_api
 from service.web.errors import install_error_handlers
 
 TEMPLATES_DIR = Path(__file__).resolve().parents[2] / "templates"
@@ -43,6 +44,7 @@ def create_app(settings: Settings | None = None, *, check_migrations: bool = Tru
     templates.env.globals.update(version=__version__, caution=CAUTION)
     app.state.templates = templates
     install_error_handlers(app)
+    install_api(app)
 
     @app.get("/healthz", tags=["operations"])
     def healthz() -> dict[str, str]:
