@@ -22,6 +22,7 @@ idempotency_keys = sa.Table(
     sa.Column("state", sa.String(16), nullable=False),
     sa.Column("status_code", sa.Integer, nullable=True),
     sa.Column("response_json", sa.Text, nullable=True),
+    sa.Column("audit_seq", sa.Integer, nullable=True),
     sa.Column("created_at", TZ, nullable=False),
     sa.Column("completed_at", TZ, nullable=True),
 )

@@ -43,7 +43,6 @@ class Principal:
     client_name: str
     scopes: frozenset[str]
     token_id: int | None = None
-    actor: Any  # the use cases' actor (frozen: user_id, username, printed_name, roles)
 
 
 def _bearer_token(request: Request) -> str:

@@ -4,8 +4,8 @@ Keys are scoped to the calling client. The request's fingerprint is a SHA-256 ov
 path and the *parsed* payload (form fields, and each uploaded file's SHA-256), not the raw bytes, so
 a retry with a new multipart boundary is still the same request. Outcomes:
 
-- first use: the write runs; its answer is stored with the key (inside the record's transaction
-  where the use case offers one, see `Write.finish`), then sent;
+- first use: the write runs; the key is marked done inside the record's own transaction (see
+  `service.store.idempotency`), and the answer is stored with it, then sent;
 - same key, same payload, answered: the stored answer is replayed, with ``Idempotent-Replayed: true``;
 - same key, same payload, still running: ``409`` (retry after a moment);
 - same key, different payload: ``422``.
@@ -26,7 +26,6 @@ from typing import Any
 
 from fastapi import Request
 from fastapi.responses import JSONResponse
-from sqlalchemy.engine import Connection
 
 from service import errors as e
 from service.services import api_requests as store
@@ -45,6 +44,11 @@ class IdempotencyKeyInFlight(e.Conflict):
 class IdempotencyKeyReused(e.InvalidInput):
     code = "idempotency-key-reused"
     title = "Idempotency-Key already used for a different request"
+
+
+class IdempotencyAnswerLost(e.Conflict):
+    code = "idempotency-answer-lost"
+    title = "The first request was recorded but its answer was not kept"
 
 
 class BadIdempotencyKey(e.InvalidInput):
@@ -75,11 +79,7 @@ def fingerprint(method: str, path: str, payload: dict[str, Any]) -> str:
 
 
 class Write:
-    """One write request under an optional idempotency key.
-
-    ``finish(conn, answer)`` stores the answer with the key inside a transaction the caller owns
-    (the use case's); if the write never calls it, the answer is stored right after, on its own.
-    """
+    """One write request under an optional idempotency key; ``run(action)`` answers it."""
 
     def __init__(self, request: Request, principal: Principal, payload: dict[str, Any]) -> None:
         self.engine = request.app.state.engine
@@ -88,18 +88,10 @@ class Write:
         self.request_hash = fingerprint(request.method, request.url.path, payload)
         self.method = request.method
         self.path = request.url.path
-        self.claim_id: int | None = None
-        self.finished = False
 
-    def finish(self, conn: Connection, answer: Answer) -> None:
-        if self.claim_id is not None:
-            store.complete(conn, claim_id=self.claim_id, status_code=answer.status_code, body=answer.body,
-                           now=datetime.now(UTC))
-            self.finished = True
-
-    def run(self, action: Callable[["Write"], Answer]) -> JSONResponse:
+    def run(self, action: Callable[[], Answer]) -> JSONResponse:
         if self.key is None:
-            return action(self).response()
+            return action().response()
         claimed = store.claim(
             self.engine, client_id=self.principal.client_id, key=self.key, method=self.method,
             path=self.path, request_hash=self.request_hash, now=datetime.now(UTC), stale_after=STALE_AFTER,
@@ -117,17 +109,24 @@ class Write:
                 "different payload; use a new key for a new request",
                 fields=[e.FieldProblem(path=f"header.{HEADER}", message="already used for a different payload")],
             )
-        self.claim_id = claimed.claim_id
+        if isinstance(claimed, store.AnswerLost):
+            what = f"{claimed.record_type} {claimed.record_id}" if claimed.record_type else "a record"
+            raise IdempotencyAnswerLost(
+                f"the first request with Idempotency-Key '{self.key}' was recorded ({what}) but its answer "
+                "was not kept; read the record instead of sending the request again"
+            )
+        claim_id = claimed.claim_id
         try:
-            answer = action(self)
+            with store.bind_on_commit(claim_id) as binding:
+                answer = action()
         except BaseException:
-            store.release(self.engine, claim_id=self.claim_id)
+            store.release(self.engine, claim_id=claim_id)  # deletes only a claim nothing committed under
             raise
-        if not answer.recorded:
-            store.release(self.engine, claim_id=self.claim_id)
-        elif not self.finished:
-            store.complete_alone(self.engine, claim_id=self.claim_id, status_code=answer.status_code,
-                                 body=answer.body, now=datetime.now(UTC))
+        if answer.recorded or binding.bound:
+            store.complete(self.engine, claim_id=claim_id, status_code=answer.status_code, body=answer.body,
+                           now=datetime.now(UTC))
+        else:
+            store.release(self.engine, claim_id=claim_id)
         return answer.response()
 
 

@@ -9,6 +9,11 @@ from pydantic import BaseModel, ConfigDict, Field, model_validator
 
 T = TypeVar("T")
 
+CAUTION = (
+    "A computed result is advice to the quality unit, not a release. "
+    "Local procedures, the applicable pharmacopoeia and licensed practice govern the decision."
+)
+
 _CODE = r"^[A-Za-z0-9][A-Za-z0-9._-]{0,63}$"
 
 
@@ -83,27 +88,50 @@ class ContainerOut(BaseModel):
     number: int
     selected: bool = Field(description="in the sampling plan")
     sampled: bool
-    outcome: str | None = Field(default=None, description="untested, passed or failed")
+    outcome: str = Field(description="untested, passed or failed")
+
+
+class SignatureOut(BaseModel):
+    id: int
+    record_type: str
+    record_id: int
+    meaning: str
+    meaning_text: str
+    reason: str
+    user_id: int
+    username: str
+    printed_name: str
+    signed_at: datetime
+    digest: str = Field(description="SHA-256 of the exact record signed")
 
 
 class EvaluationOut(BaseModel):
+    id: int
     verdict: str = Field(description="pass, fail or invalid")
-    criteria: list[dict[str, Any]] = Field(default_factory=list)
-    warnings: list[Any] = Field(default_factory=list)
-    document: dict[str, Any] = Field(default_factory=dict, description="the full evaluation record")
+    criteria: list[Any] = Field(default_factory=list, description="each criterion: measured value, limit, outcome")
+    document: dict[str, Any] = Field(description="the full evaluation record as stored")
+    spec_version_id: int
+    spec_version: int | None = None
+    reference_id: int
+    software_version: str
+    created_at: datetime
 
 
 class MeasurementOut(BaseModel):
     model_config = _examples({
-        "id": 12, "lot": "L-2026-0007", "container": 3, "instrument": "FTIR-02", "operator": "tech1",
-        "sha256": "9f2c...e1", "size": 61234, "file_name": "c3.jdx", "received_at": "2026-12-02T09:14:03Z",
-        "status": "accepted", "reason": "", "retest_of": None, "lot_state": "testing",
-        "evaluation": {"verdict": "pass", "criteria": [], "warnings": [], "document": {}},
+        "id": 12, "lot_code": "IN-2026-00007", "container": 3, "instrument": "FTIR-02", "operator_id": 4,
+        "operator": "T. Okafor", "sha256": "9f2c4b0e...", "size": 61234, "file_name": "c3.jdx",
+        "received_at": "2026-12-02T09:14:03+00:00", "status": "accepted", "reason": "", "retest_of_id": None,
+        "verdict": "pass", "invalidated": False, "invalidation_cause": None, "signatures": [], "lot_state": "testing",
+        "evaluation": {"id": 9, "verdict": "pass", "criteria": [], "document": {}, "spec_version_id": 2,
+                       "spec_version": 2, "reference_id": 5, "software_version": "0.1.0",
+                       "created_at": "2026-12-02T09:14:03+00:00"},
     })
     id: int
-    lot: str
+    lot_code: str
     container: int
     instrument: str
+    operator_id: int
     operator: str
     sha256: str = Field(description="SHA-256 of the bytes received, hex")
     size: int
@@ -111,26 +139,20 @@ class MeasurementOut(BaseModel):
     received_at: datetime
     status: str = Field(description="accepted, unreadable or refused")
     reason: str = ""
-    retest_of: int | None = None
-    lot_state: str | None = None
+    retest_of_id: int | None = None
+    verdict: str | None = None
     evaluation: EvaluationOut | None = None
-
-
-class SignatureOut(BaseModel):
-    meaning: str
-    reason: str
-    user_id: int
-    username: str
-    printed_name: str
-    signed_at: datetime
-    digest: str = Field(description="SHA-256 of the exact record signed")
-    record_type: str | None = None
-    record_id: int | None = None
+    invalidated: bool = False
+    invalidation_cause: str | None = None
+    signatures: list[SignatureOut] = Field(default_factory=list)
+    lot_state: str | None = Field(default=None, description="the lot's state after this upload")
 
 
 class LotSummary(BaseModel):
+    id: int
     code: str
     material: str
+    material_name: str
     supplier: str
     supplier_lot: str
     containers_received: int
@@ -138,28 +160,34 @@ class LotSummary(BaseModel):
     retest_on: date | None = None
     state: str
     state_label: str
+    created_at: datetime
+    state_changed_at: datetime
 
 
 class LotOut(LotSummary):
     model_config = _examples({
-        "code": "L-2026-0007", "material": "LACT-MONO", "supplier": "Northfield Excipients",
-        "supplier_lot": "NF-24-1187", "containers_received": 9, "received_on": "2026-11-30",
-        "retest_on": "2028-11-30", "state": "quarantine", "state_label": "received, in quarantine",
+        "id": 7, "code": "IN-2026-00007", "material": "LACT-MONO", "material_name": "Lactose monohydrate",
+        "supplier": "Northfield Excipients", "supplier_lot": "NF-24-1187", "containers_received": 9,
+        "received_on": "2026-11-30", "retest_on": "2028-11-30", "state": "quarantine",
+        "state_label": "received, in quarantine", "created_at": "2026-12-02T08:00:00+00:00", "created_by": 3,
+        "state_changed_at": "2026-12-02T08:00:00+00:00",
         "plan": {"containers_received": 9, "kind": "every_container", "n": 4, "p": 2, "r": 5, "to_test": 9,
                  "selected": [1, 2, 3, 4, 5, 6, 7, 8, 9], "reason": "every container is tested"},
         "containers": [{"number": 1, "selected": True, "sampled": False, "outcome": "untested"}],
-        "measurements": [], "signatures": [], "caution": "A computed result is advice to the quality unit, not a release.",
+        "measurements": [], "signatures": [], "decision": None, "caution": CAUTION,
     })
+    created_by: int
     plan: SamplingPlanOut
     containers: list[ContainerOut]
     measurements: list[MeasurementOut] = Field(default_factory=list)
     signatures: list[SignatureOut] = Field(default_factory=list)
+    decision: dict[str, Any] | None = None
     caution: str = ""
 
 
 class Page(BaseModel, Generic[T]):
     items: list[T]
-    total: int
+    total: int | None = Field(description="all matching items (null where not counted)")
     limit: int
     offset: int
     next_offset: int | None = Field(description="offset of the next page, or null on the last")
@@ -176,48 +204,56 @@ class MaterialCreate(_In):
 
 
 class MaterialOut(BaseModel):
-    model_config = _examples({"code": "LACT-MONO", "name": "Lactose monohydrate", "description": "",
-                              "created_at": "2026-12-02T08:00:00Z"})
+    model_config = _examples({"id": 1, "code": "LACT-MONO", "name": "Lactose monohydrate", "description": "",
+                              "created_at": "2026-12-02T08:00:00+00:00"})
+    id: int
     code: str
     name: str
     description: str
-    created_at: datetime | None = None
+    created_at: datetime
 
 
 class SpecificationCreate(_In):
     model_config = ConfigDict(extra="forbid", json_schema_extra={"examples": [
         {"document": {"material": "LACT-MONO", "preparation": "atr", "range_cm1": [650, 4000],
                       "correlation_min": 0.95}}]})
-    document: dict[str, Any] = Field(description="the specification document (see the evaluator's documentation)")
+    document: dict[str, Any] = Field(description="the specification document (see the evaluator's documentation); "
+                                     "its `material` must be the material in the path")
 
 
 class SpecificationOut(BaseModel):
-    model_config = _examples({"id": 3, "material": "LACT-MONO", "version": 2, "status": "draft",
-                              "document": {}, "created_at": "2026-12-02T08:00:00Z", "approved_at": None})
+    model_config = _examples({"id": 3, "material": "LACT-MONO", "version": 2, "status": "draft", "document": {},
+                              "created_at": "2026-12-02T08:00:00+00:00", "created_by": 3, "approved_at": None,
+                              "approved_by": None})
     id: int
     material: str
     version: int
     status: str = Field(description="draft, approved or superseded; approval is a person's signed step")
     document: dict[str, Any]
-    created_at: datetime | None = None
+    created_at: datetime
+    created_by: int
     approved_at: datetime | None = None
+    approved_by: int | None = None
 
 
 class ReferenceOut(BaseModel):
-    model_config = _examples({"id": 5, "material": "LACT-MONO", "preparation": "atr", "sha256": "ab12...",
-                              "file_name": "lactose-ref.jdx", "instrument": "FTIR-02", "conditions": "4 cm-1, 32 scans",
-                              "measured_on": "2026-11-28", "status": "draft", "created_at": "2026-12-02T08:00:00Z"})
+    model_config = _examples({"id": 5, "material": "LACT-MONO", "preparation": "atr", "file_name": "lactose-ref.jdx",
+                              "sha256": "ab12cd...", "size": 58211, "instrument": "FTIR-02",
+                              "conditions": "4 cm-1, 32 scans", "measured_on": "2026-11-28", "status": "draft",
+                              "created_at": "2026-12-02T08:00:00+00:00", "approved_at": None, "approved_by": None})
     id: int
     material: str
     preparation: str
-    sha256: str
     file_name: str
+    sha256: str
+    size: int
     instrument: str | None = None
     conditions: str = ""
     measured_on: date | None = None
-    status: str
-    created_at: datetime | None = None
+    status: str = Field(description="draft, approved or superseded; approval is a person's signed step")
+    created_at: datetime
     approved_at: datetime | None = None
+    approved_by: int | None = None
 
 
 class InstrumentCreate(_In):
@@ -229,55 +265,80 @@ class InstrumentCreate(_In):
 
 
 class InstrumentOut(BaseModel):
-    model_config = _examples({"code": "FTIR-02", "kind": "FT-IR with diamond ATR", "location": "Goods-in lab",
-                              "active": True, "qualified": True, "last_check_at": "2026-12-02T07:30:00Z"})
+    model_config = _examples({"id": 2, "code": "FTIR-02", "kind": "FT-IR with diamond ATR", "location": "Goods-in lab",
+                              "active": True, "qualified": True, "last_passing_check_at": "2026-12-02T07:30:00+00:00",
+                              "qualified_until": "2026-12-03T07:30:00+00:00",
+                              "status_text": "qualified until 2026-12-03 07:30 UTC"})
+    id: int
     code: str
     kind: str
     location: str
-    active: bool = True
-    qualified: bool | None = Field(default=None, description="a passing polystyrene check within the set period")
-    last_check_at: datetime | None = None
+    active: bool
+    qualified: bool = Field(description="a passing polystyrene check within the set period")
+    last_passing_check_at: datetime | None = None
+    qualified_until: datetime | None = None
+    status_text: str
 
 
 class InstrumentCheckOut(BaseModel):
-    model_config = _examples({"id": 4, "instrument": "FTIR-02", "passed": True, "checks": [
-        {"name": "band 1601.2", "measured": 1601.0, "limit": "1600.2-1602.2", "outcome": "pass"}],
-        "checked_at": "2026-12-02T07:30:00Z", "sha256": "77aa..."})
+    model_config = _examples({"id": 4, "instrument": "FTIR-02", "passed": True,
+                              "result": {"passed": True, "checks": [{"name": "band near 1601 cm-1", "measured": 1601.1,
+                                                                     "limit": "1600.2-1602.2", "outcome": "pass"}]},
+                              "file_name": "ps-2026-12-02.jdx", "sha256": "77aa01...",
+                              "checked_at": "2026-12-02T07:30:00+00:00", "checked_by": 3})
     id: int
     instrument: str
     passed: bool
-    checks: list[dict[str, Any]]
+    result: dict[str, Any]
+    file_name: str
+    sha256: str
     checked_at: datetime
-    sha256: str | None = None
+    checked_by: int
 
 
 # --- evaluation, library, audit ---------------------------------------------------------------------
 
 class LibraryMatchOut(BaseModel):
-    material: str
-    reference_id: int | None = None
-    score: float
     rank: int
+    material: str
+    score: float
+    metric: str
 
 
 class LibrarySearchOut(BaseModel):
-    model_config = _examples({"matches": [{"material": "LACT-MONO", "reference_id": 5, "score": 0.993, "rank": 1},
-                                          {"material": "MCC-101", "reference_id": 9, "score": 0.71, "rank": 2}]})
+    model_config = _examples({"references": 14, "matches": [
+        {"rank": 1, "material": "LACT-MONO", "score": 0.993, "metric": "pearson"},
+        {"rank": 2, "material": "MCC-101", "score": 0.71, "metric": "pearson"}], "caution": CAUTION})
+    references: int = Field(description="approved references searched")
     matches: list[LibraryMatchOut]
     caution: str = ""
 
 
+class DryRunOut(BaseModel):
+    model_config = _examples({"verdict": "pass", "criteria": [], "evaluation": {}, "recorded": False,
+                              "specification": "LACT-MONO v2", "caution": CAUTION})
+    verdict: str
+    criteria: list[Any]
+    evaluation: dict[str, Any] = Field(description="the full evaluation, as it would be stored")
+    recorded: bool = Field(description="always false: a dry run records nothing")
+    specification: str = Field(description="which specification was used")
+    caution: str = ""
+
+
 class AuditVerifyOut(BaseModel):
-    model_config = _examples({"ok": True, "events": 128, "first_problem": None})
+    model_config = _examples({"ok": True, "events": 128, "files": 21, "signatures": 6, "first_problem": None})
     ok: bool
     events: int
+    files: int | None = None
+    signatures: int | None = None
     first_problem: str | None = None
 
 
 class AuditEventOut(BaseModel):
-    model_config = _examples({"seq": 17, "occurred_at": "2026-12-02T09:14:03Z", "username": "tech1",
-                              "action": "measurement.recorded", "record_type": "measurement", "record_id": "12",
-                              "old_values": None, "new_values": {"status": "accepted"}, "reason": "", "hash": "c0ffee..."})
+    model_config = _examples({"seq": 17, "occurred_at": "2026-12-02T09:14:03+00:00", "user_id": 4,
+                              "username": "tech1", "action": "measurement.recorded", "record_type": "measurement",
+                              "record_id": "12", "old_values": None, "new_values": {"status": "accepted"},
+                              "reason": "", "prev_hash": "5e1d...", "hash": "c0ffee..."})
     seq: int
     occurred_at: datetime
     user_id: int | None = None
@@ -288,4 +349,5 @@ class AuditEventOut(BaseModel):
     old_values: Any = None
     new_values: Any = None
     reason: str = ""
+    prev_hash: str
     hash: str
