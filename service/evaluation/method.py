@@ -15,6 +15,7 @@ Euclidean distance).
 from __future__ import annotations
 
 import hashlib
+import weakref
 from dataclasses import dataclass
 from functools import cached_property
 from typing import Any
@@ -144,12 +145,21 @@ class Prepared:
     data_sha256: str
 
 
+_digests: "weakref.WeakKeyDictionary[Spectrum, str]" = weakref.WeakKeyDictionary()
+
+
 def spectrum_data_digest(s: Spectrum) -> str:
-    """SHA-256 of the spectrum's values (kind, then x and y as little-endian float64)."""
-    h = hashlib.sha256(s.kind.value.encode())
-    h.update(np.ascontiguousarray(s.x, dtype="<f8").tobytes())
-    h.update(np.ascontiguousarray(s.y, dtype="<f8").tobytes())
-    return h.hexdigest()
+    """SHA-256 of the spectrum's values (kind, then x and y as little-endian float64).
+
+    Spectra are immutable, so the digest is remembered per object.
+    """
+    found = _digests.get(s)
+    if found is None:
+        h = hashlib.sha256(s.kind.value.encode())
+        h.update(np.ascontiguousarray(s.x, dtype="<f8").tobytes())
+        h.update(np.ascontiguousarray(s.y, dtype="<f8").tobytes())
+        found = _digests[s] = h.hexdigest()
+    return found
 
 
 def as_absorbance(s: Spectrum) -> Spectrum:
