@@ -141,7 +141,7 @@ class Prepared:
     corrected: F64  # after baseline subtraction
     final: F64  # after the ATR correction (= corrected when there is none): bands and metric use this
     vector: F64  # the metric's vector over `method.compared`
-    reference_height: float  # strongest baseline-corrected absorbance outside exclusions
+    reference_height: float  # height of the strongest band (above its local baseline) outside exclusions
     data_sha256: str
 
 
@@ -209,15 +209,11 @@ def prepare(spectrum: Spectrum, method: Method, *, data_sha256: str | None = Non
 def finish(y: F64, method: Method, digest: str = "") -> Prepared:
     """The method's steps after resampling, for absorbance ``y`` already on ``method.grid``."""
     grid = method.grid
-    if method.baseline == "asls":
-        corrected = y - k.baseline_asls(y, step=method.step, lam=method.asls_lam, p=method.asls_p)
-    elif method.baseline == "rubberband":
-        corrected = y - k.baseline_rubberband(grid, y)
-    else:
-        corrected = np.array(y, dtype=np.float64)
+    corrected = y - k.baseline(grid, y, method=method.baseline, lam=method.asls_lam, p=method.asls_p)
     final = corrected * (grid / method.atr_reference_cm1) if method.atr_correction else corrected
     keep = ~method.excluded_mask
-    reference_height = float(final[keep].max()) if keep.any() else float(final.max())
+    peak = float(final[keep].max()) if keep.any() else float(final.max())
+    reference_height = k.strongest_band_height(grid, final, keep, min_prominence=max(peak, 1e-12) * 0.01)
     vector = metric_vector(final, method)
     for a in (y, corrected, final, vector):
         a.setflags(write=False)
