@@ -1,16 +1,22 @@
 """The REST API for a lab information system, under ``/api/v1``.
 
 A thin layer: each endpoint turns a request into one use-case call and the result into JSON.
-`install_api(app)` adds the upload-size middleware and the routers; `create_app` calls it.
+`install_api(app)` adds the upload-size middleware, the routers and the bearer scheme of the
+OpenAPI document; `create_app` calls it.
 """
 
 from __future__ import annotations
+
+from typing import Any
 
 from fastapi import APIRouter, FastAPI
 
 from service.web.api.limits import UploadLimitMiddleware
 
 PREFIX = "/api/v1"
+# Multipart framing and the small form fields around a file: the file itself may be as large as
+# BANDGATE_MAX_UPLOAD_BYTES; the body may exceed that by this much.
+MULTIPART_ALLOWANCE = 256 * 1024
 
 
 def build_router() -> APIRouter:
@@ -23,8 +29,25 @@ def build_router() -> APIRouter:
 
 
 def install_api(app: FastAPI) -> None:
-    app.add_middleware(UploadLimitMiddleware, max_bytes=app.state.settings.max_upload_bytes, prefix="/api/")
+    from service.services.api_requests import watch
+    from service.web.api.access import BEARER_SCHEME
+
+    settings = app.state.settings
+    app.add_middleware(UploadLimitMiddleware, max_bytes=settings.max_upload_bytes + MULTIPART_ALLOWANCE,
+                       file_limit=settings.max_upload_bytes, prefix="/api/")
     app.include_router(build_router())
+    watch(app.state.engine)  # binds idempotency keys to the use cases' commits
+
+    original = app.openapi
+
+    def openapi() -> dict[str, Any]:
+        if app.openapi_schema is None:
+            doc = original()
+            doc.setdefault("components", {}).setdefault("securitySchemes", {})["bearer"] = BEARER_SCHEME
+            app.openapi_schema = doc
+        return app.openapi_schema
+
+    app.openapi = openapi  # type: ignore[method-assign]
 
 
 __all__ = ["PREFIX", "build_router", "install_api"]

@@ -9,12 +9,13 @@ from fastapi import APIRouter, Depends, Query, Request
 from service import errors as e
 from service import services as uc
 from service.release.permissions import Action
-from service.web.api.access import ApiRoute, Needs, Principal
+from service.web.api.access import ApiRoute, acting_user
+from service.web.auth import Principal, require_action
 from service.web.api.problems import problems
 from service.web.api.schemas import AuditEventOut, AuditVerifyOut, Page
 
 router = APIRouter(tags=["audit"], route_class=ApiRoute)
-Audit = Annotated[Principal, Depends(Needs(Action.view_audit))]
+Audit = Annotated[Principal, require_action(Action.view_audit)]
 
 
 @router.get("/audit/verify", response_model=AuditVerifyOut, responses=problems(),

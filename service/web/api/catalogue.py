@@ -14,8 +14,8 @@ from fastapi.responses import JSONResponse
 
 from service import services as uc
 from service.release.permissions import Action
-from service.services.api_requests import client_actor
-from service.web.api.access import ApiRoute, Needs, Principal
+from service.web.api.access import ApiRoute, acting_user
+from service.web.auth import Principal, require_action
 from service.web.api.idempotency import Answer, Write
 from service.web.api.problems import WRITE, problems
 from service.web.api.schemas import (
@@ -28,13 +28,13 @@ router = APIRouter(route_class=ApiRoute)
 
 Code = Annotated[str, Path(min_length=1, max_length=64, description="material or instrument code")]
 RecordId = Annotated[int, Path(ge=1, le=2**31 - 1)]
-Manage = Annotated[Principal, Depends(Needs(Action.manage_methods))]
-Read = Annotated[Principal, Depends(Needs(Action.view_records))]
+Manage = Annotated[Principal, require_action(Action.manage_methods)]
+Read = Annotated[Principal, require_action(Action.view_records)]
 
 
 def _created(request: Request, principal: Principal, payload: dict[str, Any], make: Any, location: Any) -> JSONResponse:
     engine = request.app.state.engine
-    actor = client_actor(engine, client_name=principal.client_name)
+    actor = acting_user(request, principal)
 
     def act() -> Answer:
         view = make(engine, actor)
@@ -182,7 +182,7 @@ def read_instrument(code: Code, request: Request, principal: Read) -> dict[str, 
 )
 def record_check(
     code: Code, request: Request,
-    principal: Annotated[Principal, Depends(Needs(Action.record_instrument_check))],
+    principal: Annotated[Principal, require_action(Action.record_instrument_check)],
     file: Annotated[UploadFile, File(description="polystyrene film spectrum")],
 ) -> JSONResponse:
     upload = read_upload(file, request)

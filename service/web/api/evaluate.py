@@ -11,7 +11,8 @@ from fastapi import APIRouter, Depends, File, Form, Query, Request, UploadFile
 from service import errors as e
 from service.release.permissions import Action
 from service.services.dry_run import evaluate_dry_run, parse_spec_text, search_library
-from service.web.api.access import ApiRoute, Needs, Principal
+from service.web.api.access import ApiRoute, acting_user
+from service.web.auth import Principal, require_action
 from service.web.api.problems import problems
 from service.web.api.schemas import CAUTION, DryRunOut, LibrarySearchOut
 from service.web.api.uploads import optional_text, read_upload
@@ -39,7 +40,7 @@ def prefixed(prefix: str) -> Iterator[None]:
         "file": "(sample spectrum)", "material": "LACT-MONO"}}}}},
 )
 def dry_run(
-    request: Request, principal: Annotated[Principal, Depends(Needs(Action.dry_run_evaluation))],
+    request: Request, principal: Annotated[Principal, require_action(Action.dry_run_evaluation)],
     file: Annotated[UploadFile, File(description="the sample spectrum")],
     spec: Annotated[str | None, Form(description="specification document, JSON text")] = None,
     reference: Annotated[UploadFile | None, File(description="reference spectrum for `spec`")] = None,
@@ -78,7 +79,7 @@ def dry_run(
     openapi_extra={"requestBody": {"content": {"multipart/form-data": {"example": {"file": "(spectrum)"}}}}},
 )
 def library_search(
-    request: Request, principal: Annotated[Principal, Depends(Needs(Action.dry_run_evaluation))],
+    request: Request, principal: Annotated[Principal, require_action(Action.dry_run_evaluation)],
     file: Annotated[UploadFile, File(description="the spectrum to look up")],
     top: Annotated[int, Query(ge=1, le=50)] = 5,
 ) -> dict[str, Any]:

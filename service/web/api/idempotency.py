@@ -29,7 +29,8 @@ from fastapi.responses import JSONResponse
 
 from service import errors as e
 from service.services import api_requests as store
-from service.web.api.access import Principal
+from service.web.api.access import caller_key
+from service.web.auth import Principal
 
 HEADER = "Idempotency-Key"
 STALE_AFTER = timedelta(minutes=5)
@@ -93,7 +94,7 @@ class Write:
         if self.key is None:
             return action().response()
         claimed = store.claim(
-            self.engine, client_id=self.principal.client_id, key=self.key, method=self.method,
+            self.engine, client_id=caller_key(self.principal), key=self.key, method=self.method,
             path=self.path, request_hash=self.request_hash, now=datetime.now(UTC), stale_after=STALE_AFTER,
         )
         if isinstance(claimed, store.Replay):

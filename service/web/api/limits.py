@@ -24,16 +24,17 @@ class _BodyTooLarge(Exception):
     """Raised from ``receive`` once the streamed body passes the limit."""
 
 
-def _problem_413(path: str, limit: int, seen: int | None) -> tuple[dict[str, Any], bytes]:
+def _problem_413(path: str, limit: int, seen: int | None, file_limit: int) -> tuple[dict[str, Any], bytes]:
     size = f"{seen:,} bytes" if seen is not None else "more than the limit"
     body = {
         "type": PROBLEM_BASE + "payload-too-large",
         "title": "Upload too large",
         "status": 413,
-        "detail": f"the request body is {size}; the limit is {limit:,} bytes "
-        "(setting BANDGATE_MAX_UPLOAD_BYTES). Send a smaller file, or ask the administrator to raise the limit",
+        "detail": f"the request body is {size}; a file may be at most {file_limit:,} bytes and a request "
+        f"{limit:,} bytes (setting BANDGATE_MAX_UPLOAD_BYTES). Send a smaller file, or ask the administrator "
+        "to raise the limit",
         "instance": path,
-        "limit_bytes": limit,
+        "limit_bytes": file_limit,
     }
     start = {
         "type": "http.response.start",
@@ -46,9 +47,10 @@ def _problem_413(path: str, limit: int, seen: int | None) -> tuple[dict[str, Any
 class UploadLimitMiddleware:
     """Refuse request bodies above ``max_bytes`` on paths under ``prefix``."""
 
-    def __init__(self, app: ASGIApp, *, max_bytes: int, prefix: str = "/api/") -> None:
+    def __init__(self, app: ASGIApp, *, max_bytes: int, file_limit: int | None = None, prefix: str = "/api/") -> None:
         self.app = app
         self.max_bytes = max_bytes
+        self.file_limit = file_limit or max_bytes  # the figure quoted to the client
         self.prefix = prefix
 
     async def __call__(self, scope: Scope, receive: Receive, send: Send) -> None:
@@ -62,7 +64,7 @@ class UploadLimitMiddleware:
 
         declared = _content_length(scope)
         if declared is not None and declared > self.max_bytes:
-            await _send_413(send, scope["path"], self.max_bytes, declared)
+            await _send_413(send, scope["path"], self.max_bytes, declared, self.file_limit)
             return
 
         state = {"received": 0, "exceeded": False, "started": False}
@@ -89,7 +91,7 @@ class UploadLimitMiddleware:
             if not state["exceeded"]:
                 raise
         if state["exceeded"] and not state["started"]:
-            await _send_413(send, scope["path"], self.max_bytes, None)
+            await _send_413(send, scope["path"], self.max_bytes, None, self.file_limit)
 
 
 def _content_length(scope: Scope) -> int | None:
@@ -102,8 +104,8 @@ def _content_length(scope: Scope) -> int | None:
     return None
 
 
-async def _send_413(send: Send, path: str, limit: int, seen: int | None) -> None:
-    start, body = _problem_413(path, limit, seen)
+async def _send_413(send: Send, path: str, limit: int, seen: int | None, file_limit: int) -> None:
+    start, body = _problem_413(path, limit, seen, file_limit)
     start["headers"].append((b"content-length", str(len(body)).encode()))
     await send(start)
     await send({"type": "http.response.body", "body": body})

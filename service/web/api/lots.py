@@ -10,8 +10,9 @@ from fastapi.responses import JSONResponse
 from service import errors as e
 from service import services as uc
 from service.release.permissions import Action
-from service.services.api_requests import client_actor, operator_actor
-from service.web.api.access import ApiRoute, Needs, Principal
+from service.services.api_requests import operator_actor
+from service.web.api.access import ApiRoute, acting_user
+from service.web.auth import Principal, require_action
 from service.web.api.idempotency import Answer, Write
 from service.web.api.problems import WRITE, problems
 from service.web.api.schemas import CAUTION, LOT_CREATE_EXAMPLE, LotCreate, LotOut, LotSummary, MeasurementOut, Page
@@ -42,10 +43,10 @@ def measurement_body(view: Any, *, lot_state: str | None = None) -> dict[str, An
     openapi_extra={"requestBody": {"content": {"application/json": {"example": LOT_CREATE_EXAMPLE}}}},
 )
 def create_lot(
-    body: LotCreate, request: Request, principal: Annotated[Principal, Depends(Needs(Action.receive_lot))],
+    body: LotCreate, request: Request, principal: Annotated[Principal, require_action(Action.receive_lot)],
 ) -> JSONResponse:
     engine = request.app.state.engine
-    actor = client_actor(engine, client_name=principal.client_name)
+    actor = acting_user(request, principal)
 
     def act() -> Answer:
         view = uc.receive_lot(engine, actor, material_code=body.material, supplier_name=body.supplier,
@@ -61,7 +62,7 @@ def create_lot(
     summary="List lots", description="Lots, newest first, optionally by state and material; paginated.",
 )
 def list_lots(
-    request: Request, principal: Annotated[Principal, Depends(Needs(Action.view_records))],
+    request: Request, principal: Annotated[Principal, require_action(Action.view_records)],
     state: Annotated[str | None, Query(description="e.g. quarantine, testing, awaiting_disposition",
                                        examples=["testing"])] = None,
     material: Annotated[str | None, Query(description="material code", examples=["LACT-MONO"])] = None,
@@ -80,7 +81,7 @@ def list_lots(
     summary="Read a lot", description="State, sampling plan, containers, measurements with verdicts, signatures.",
 )
 def read_lot(code: str, request: Request,
-             principal: Annotated[Principal, Depends(Needs(Action.view_records))]) -> dict[str, Any]:
+             principal: Annotated[Principal, require_action(Action.view_records)]) -> dict[str, Any]:
     return lot_body(uc.get_lot(request.app.state.engine, code))
 
 
@@ -101,7 +102,7 @@ MEASUREMENT_FORM_EXAMPLE = {"container": 1, "instrument": "FTIR-02", "operator":
 )
 def upload_measurement(
     code: str, request: Request,
-    principal: Annotated[Principal, Depends(Needs(Action.record_measurement))],
+    principal: Annotated[Principal, require_action(Action.record_measurement)],
     file: Annotated[UploadFile, File(description="the spectrum (JCAMP-DX or CSV)")],
     container: Annotated[int, Form(ge=1, le=10_000, description="container number in the lot")],
     instrument: Annotated[str, Form(min_length=1, max_length=64, description="instrument identifier")],
@@ -147,5 +148,5 @@ def _recorded_problem(request: Request, exc: Any, status: int) -> Answer:
     summary="Read a measurement", description="One measurement with its evaluation and any signatures.",
 )
 def read_measurement(measurement_id: Annotated[int, Path(ge=1, le=2**31 - 1)], request: Request,
-                     principal: Annotated[Principal, Depends(Needs(Action.view_records))]) -> dict[str, Any]:
+                     principal: Annotated[Principal, require_action(Action.view_records)]) -> dict[str, Any]:
     return measurement_body(uc.get_measurement(request.app.state.engine, measurement_id))
