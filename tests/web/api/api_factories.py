@@ -6,6 +6,9 @@ All spectra are synthetic (seeded Gaussian bands), labelled so in their file nam
 
 from __future__ import annotations
 
+import os
+import uuid
+from collections.abc import Iterator
 from dataclasses import dataclass
 from typing import Any
 
@@ -100,15 +103,56 @@ def make_lab(db_url: str, *, max_upload_bytes: int = 10 * 1024 * 1024, spectra: 
     return Lab(client=TestClient(app), engine=engine, token=token, read_token=read_token, tech=tech, qa=qa)
 
 
-@pytest.fixture
-def lab(db_url: str) -> Lab:
-    return make_lab(db_url)
+def _module_database(request: pytest.FixtureRequest, tmp_path_factory: pytest.TempPathFactory) -> Iterator[str]:
+    """A migrated database of the parametrised back-end, shared by one test module (tests use fresh lots)."""
+    from service.store.migrations import upgrade
+
+    if request.param == "sqlite":
+        url = f"sqlite:///{tmp_path_factory.mktemp('api') / 'bandgate.db'}"
+        upgrade(url)
+        yield url
+        return
+    pg = os.environ.get("BANDGATE_TEST_POSTGRES_URL", "")
+    if not pg:
+        if os.environ.get("BANDGATE_REQUIRE_POSTGRES") == "1":
+            pytest.fail("BANDGATE_REQUIRE_POSTGRES=1 but BANDGATE_TEST_POSTGRES_URL is not set")
+        pytest.skip("PostgreSQL not configured: set BANDGATE_TEST_POSTGRES_URL to run this")
+    import psycopg
+
+    admin = pg.replace("postgresql+psycopg://", "postgresql://")
+    name = f"bandgate_api_{uuid.uuid4().hex[:12]}"
+    with psycopg.connect(admin, autocommit=True) as conn:
+        conn.execute(f'CREATE DATABASE "{name}"')
+    url = f"{pg.rpartition('/')[0]}/{name}"
+    try:
+        upgrade(url)
+        yield url
+    finally:
+        with psycopg.connect(admin, autocommit=True) as conn:
+            conn.execute(f'DROP DATABASE IF EXISTS "{name}" WITH (FORCE)')
 
 
-@pytest.fixture
-def bare_lab(db_url: str) -> Lab:
+BACKENDS = ["sqlite", pytest.param("postgres", marks=pytest.mark.postgres)]
+
+
+@pytest.fixture(scope="module", params=BACKENDS)
+def lab(request: pytest.FixtureRequest, tmp_path_factory: pytest.TempPathFactory) -> Iterator[Lab]:
+    """The whole lab with spectra, on each back-end, shared by the tests of one module."""
+    gen = _module_database(request, tmp_path_factory)
+    made = make_lab(next(gen))
+    yield made
+    made.engine.dispose()
+    gen.close()
+
+
+@pytest.fixture(scope="module", params=BACKENDS)
+def bare_lab(request: pytest.FixtureRequest, tmp_path_factory: pytest.TempPathFactory) -> Iterator[Lab]:
     """People, tokens, material, supplier and instrument; no spectra read (for the refusal tests)."""
-    return make_lab(db_url, spectra=False)
+    gen = _module_database(request, tmp_path_factory)
+    made = make_lab(next(gen), spectra=False)
+    yield made
+    made.engine.dispose()
+    gen.close()
 
 
 def lot_body(**changes: Any) -> dict[str, Any]:
