@@ -25,6 +25,7 @@ from numpy.typing import NDArray
 
 from service.evaluation import _kernels as k
 from service.evaluation.specification import Specification
+from service.spectra import to_absorbance
 from service.spectra.model import Spectrum, YKind
 
 __all__ = ["Method", "Prepared", "RangeNotCovered", "finish", "metric_vector", "prepare", "score", "spectrum_data_digest"]
@@ -192,30 +193,8 @@ def spectrum_spacing(s: Spectrum) -> float:
 
 
 def as_absorbance(s: Spectrum) -> Spectrum:
-    """The spectrum in absorbance (A = −log10 T); a spectrum already in absorbance is returned as is."""
-    if s.kind is YKind.absorbance:
-        return s
-    try:
-        from service.spectra import to_absorbance  # type: ignore[attr-defined]
-    except ImportError:  # the reader branch provides it; until then the definition itself
-        to_absorbance = _to_absorbance
-    return to_absorbance(s)  # type: ignore[no-any-return]
-
-
-def _to_absorbance(s: Spectrum) -> Spectrum:
-    from service.spectra.model import SpectrumError
-
-    if s.kind is YKind.transmittance:
-        t = s.y
-    elif s.kind is YKind.percent_transmittance:
-        t = s.y / 100.0
-    else:
-        raise SpectrumError(f"a {s.kind.value} spectrum cannot be converted to absorbance; measure in "
-                            "transmittance or absorbance")
-    clipped = np.clip(t, 1e-6, None)
-    note = "converted to absorbance (A = -log10 T)" + (
-        f"; {int((t <= 0).sum())} non-positive transmittance value(s) clipped" if (t <= 0).any() else "")
-    return s.with_values(-np.log10(clipped), YKind.absorbance, note=note)
+    """The spectrum in absorbance (A = −log10 T, by the core's conversion); absorbance is returned as is."""
+    return s if s.kind is YKind.absorbance else to_absorbance(s)
 
 
 def prepare(spectrum: Spectrum, method: Method, *, data_sha256: str | None = None) -> Prepared:
