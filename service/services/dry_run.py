@@ -7,7 +7,6 @@ approved references (keyed by their ids and SHA-256) and reused until that set c
 from __future__ import annotations
 
 import json
-import threading
 from dataclasses import dataclass
 from typing import Any
 
@@ -17,8 +16,6 @@ from service.errors import FieldProblem, InvalidInput, UnusableInput
 from service.services import evaluator
 from service.services.specifications import effective_spec, list_references, reference_file
 
-_lock = threading.Lock()
-_library: tuple[tuple[tuple[int, str], ...], Any] | None = None
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -29,22 +26,14 @@ class DryRun:
 
 def approved_library(engine: Engine) -> Any:
     """The `ReferenceLibrary` of every approved reference spectrum (cached while the set is unchanged)."""
-    from service.evaluation import ReferenceLibrary
-
-    global _library
     refs = list_references(engine, status="approved")
-    key = tuple(sorted((r.id, r.sha256) for r in refs))
-    with _lock:
-        if _library is not None and _library[0] == key:
-            return _library[1]
-    entries = []
-    for r in refs:
-        _view, data = reference_file(engine, r.id)
-        entries.append((r.material, evaluator.read_cached(data, file_name=r.file_name)))
-    library = ReferenceLibrary.build(entries)
-    with _lock:
-        _library = (key, library)
-    return library
+    entries = sorted((r.id, r.material, r.sha256) for r in refs)
+
+    def load(reference_id: int) -> tuple[bytes, str]:
+        view, data = reference_file(engine, reference_id)
+        return data, view.file_name
+
+    return evaluator.library_for(entries, load)
 
 
 def _read(data: bytes, file_name: str, field: str) -> Any:
@@ -63,7 +52,8 @@ def evaluate_dry_run(
     if material_code is not None:
         spec_view = effective_spec(engine, material_code)
         spec = evaluator.parse_specification(spec_view.document)
-        prep = evaluator.spec_preparation(spec)
+        prep = spec_view.document.get("preparation")
+        prep = prep if isinstance(prep, str) else (prep or {}).get("method")
         refs = list_references(engine, material_code=material_code, status="approved")
         chosen = next((r for r in refs if r.preparation == prep), refs[0] if refs else None)
         if chosen is None:
@@ -71,16 +61,18 @@ def evaluate_dry_run(
                                "`reference` instead, or approve a reference first",
                                fields=[FieldProblem("material", "a material with an approved reference")])
         _view, ref_bytes = reference_file(engine, chosen.id)
-        reference = evaluator.read_cached(ref_bytes, file_name=chosen.file_name)
+        reference = evaluator.reference_spectrum(chosen.sha256, lambda: (ref_bytes, chosen.file_name))
         used = f"{spec_view.material} version {spec_view.version} (approved), reference {chosen.id}"
         library = approved_library(engine)
+        ref_prep: str | None = chosen.preparation
     else:
         assert spec_document is not None and reference_data is not None
         spec = evaluator.parse_specification(spec_document)
         reference = _read(reference_data, reference_name, "reference")
         used = "the specification and reference sent with the request"
-        library = None
-    return DryRun(evaluation=evaluator.evaluate(sample=sample, spec=spec, reference=reference, library=library),
+        library, ref_prep = None, None
+    return DryRun(evaluation=evaluator.evaluate(sample=sample, spec=spec, reference=reference, library=library,
+                                                reference_preparation=ref_prep),
                   specification=used)
 
 
@@ -90,7 +82,7 @@ def search_library(engine: Engine, *, data: bytes, file_name: str = "", top: int
 
     sample = _read(data, file_name, "file")
     library = approved_library(engine)
-    if len(library) == 0:
+    if library is None:
         return 0, []
     lo, hi = sample.range_cm1
     lo, hi = max(float(lo), 650.0), min(float(hi), 4000.0)
