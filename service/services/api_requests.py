@@ -73,7 +73,17 @@ def operator_actor(engine: Engine, *, username: str) -> Actor:
     return actor
 
 
+def lot_state(engine: Engine, code: str) -> str | None:
+    """The lot's current state, read cheaply (the upload answer reports it)."""
+    from service.store import repositories as repo
+    from service.store.unit_of_work import UnitOfWork
+
+    with UnitOfWork(engine, write=False) as uow:
+        lot = repo.lot_by_code(uow.session, code)
+        return lot.state if lot is not None else None
+
+
 __all__ = [
     "AnswerLost", "ClaimResult", "Claimed", "InFlight", "Mismatch", "Replay", "bind_on_commit", "claim",
-    "client_actor", "client_username", "complete", "operator_actor", "release", "watch",
+    "client_actor", "client_username", "complete", "lot_state", "operator_actor", "release", "watch",
 ]

@@ -69,17 +69,47 @@ def _check_url(url: str) -> str:
     return url
 
 
-def register_target(engine: Engine, *, client_id: str, url: str) -> str:
-    """Register (or replace) a client's notice URL; returns the new signing secret (shown once)."""
+def client_key(engine: Engine, client_name: str) -> str:
+    """The key notices and idempotency use for an API client (``client:<id>``)."""
+    from service.services.security_clients import list_clients
+
+    for row in list_clients(engine):
+        if row["name"] == client_name:
+            return f"client:{row['id']}"
+    raise e.NotFound(f"there is no API client {client_name!r}; create one with `bandgate token create`")
+
+
+def register_target(engine: Engine, *, client_name: str, url: str, actor: Any = None) -> str:
+    """Register (or replace) a client's notice URL; returns the new signing secret (shown once).
+
+    The change is audited (who, which client, which URL; never the secret).
+    """
+    from service.store.audit import SYSTEM_ACTOR, append_event
+    from service.store.unit_of_work import UnitOfWork
+
+    url = _check_url(url)
+    key = client_key(engine, client_name)
     secret = secrets.token_urlsafe(32)
-    with engine.begin() as conn:
-        store.set_target(conn, client_id=client_id, url=_check_url(url), secret=secret, now=datetime.now(UTC))
+    with UnitOfWork(engine) as uow:
+        store.set_target(uow.session.connection(), client_id=key, url=url, secret=secret, now=datetime.now(UTC))
+        append_event(uow.session, actor=actor or SYSTEM_ACTOR, action="api-notice-target-set",
+                     record_type="api_client", record_id=key.split(":", 1)[1], new={"url": url})
+        uow.commit()
     return secret
 
 
-def disable_target(engine: Engine, *, client_id: str) -> bool:
-    with engine.begin() as conn:
-        return store.disable_target(conn, client_id=client_id)
+def disable_target(engine: Engine, *, client_name: str, actor: Any = None) -> bool:
+    from service.store.audit import SYSTEM_ACTOR, append_event
+    from service.store.unit_of_work import UnitOfWork
+
+    key = client_key(engine, client_name)
+    with UnitOfWork(engine) as uow:
+        done = store.disable_target(uow.session.connection(), client_id=key)
+        if done:
+            append_event(uow.session, actor=actor or SYSTEM_ACTOR, action="api-notice-target-disabled",
+                         record_type="api_client", record_id=key.split(":", 1)[1], new={"active": False})
+        uow.commit()
+    return done
 
 
 def notice_body(*, lot: dict[str, Any], event: str) -> str:

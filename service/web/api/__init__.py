@@ -38,6 +38,8 @@ def install_api(app: FastAPI) -> None:
     app.include_router(build_router())
     watch(app.state.engine)  # binds idempotency keys to the use cases' commits
 
+    _start_notices_with_the_server(app)
+
     original = app.openapi
 
     def openapi() -> dict[str, Any]:
@@ -48,6 +50,28 @@ def install_api(app: FastAPI) -> None:
         return app.openapi_schema
 
     app.openapi = openapi  # type: ignore[method-assign]
+
+
+def _start_notices_with_the_server(app: FastAPI) -> None:
+    """Run the notice dispatcher while the server runs (lifespan), not in every test app."""
+    from contextlib import asynccontextmanager
+
+    from service.services.notices import Dispatcher
+
+    inner = app.router.lifespan_context
+
+    @asynccontextmanager
+    async def lifespan(a: Any):  # type: ignore[no-untyped-def]
+        dispatcher = Dispatcher(app.state.engine)
+        dispatcher.start()
+        app.state.notices = dispatcher
+        try:
+            async with inner(a) as state:
+                yield state
+        finally:
+            dispatcher.stop()
+
+    app.router.lifespan_context = lifespan
 
 
 __all__ = ["PREFIX", "build_router", "install_api"]

@@ -10,7 +10,9 @@ from fastapi.responses import JSONResponse
 from service import errors as e
 from service import services as uc
 from service.release.permissions import Action
+from service.services.api_requests import lot_state as current_lot_state
 from service.services.api_requests import operator_actor
+from service.services.notices import EVENTS as NOTICE_EVENTS
 from service.web.api.access import ApiRoute, acting_user
 from service.web.auth import Principal, require_action
 from service.web.api.idempotency import Answer, Write
@@ -128,7 +130,10 @@ def upload_measurement(
             if any(f.path == "container" for f in exc.fields):
                 raise e.InvalidInput(exc.message, fields=exc.fields) from None
             raise
-        lot_state = uc.get_lot(engine, code).state if view.status == "accepted" else None
+        lot_state = current_lot_state(engine, code)
+        dispatcher = getattr(request.app.state, "notices", None)
+        if dispatcher is not None and lot_state in NOTICE_EVENTS:
+            dispatcher.wake()  # a decision may be due to a client: send it now rather than at the next tick
         return Answer(status_code=201, body=measurement_body(view, lot_state=lot_state),
                       headers={"Location": f"/api/v1/measurements/{view.id}"})
 
