@@ -60,7 +60,7 @@ def create_lot(
 
 
 @router.get(
-    "/lots", response_model=Page[LotSummary], responses=problems(422),
+    "/lots", response_model=Page[LotSummary], responses=problems(404, 422),
     summary="List lots", description="Lots, newest first, optionally by state and material; paginated.",
 )
 def list_lots(
