@@ -98,7 +98,7 @@ LACTOSE_MONOHYDRATE = DemoMaterial(
         _b(950, 0.15, 12), _b(915, 0.12, 12), _b(875, 0.18, 10), _b(780, 0.12, 12),
     ),
     required_bands=(
-        _req(OH_BONDED, 3550, 3200, 0.10, min_width=100),
+        _req("O-H stretch (water of crystallisation, hydroxyls)", 3550, 3200, 0.10),
         _req("C-O stretch, alcohols and ethers", 1100, 1000, 0.50),
     ),
     forbidden_bands=(_forbid(CARBONYL_SUGAR, 1760, 1700, 0.05),),
@@ -206,7 +206,7 @@ GLYCEROL = DemoMaterial(
         _b(993, 0.40, 15), _b(922, 0.24, 15), _b(850, 0.16, 15),
     ),
     required_bands=(
-        _req(OH_BONDED, 3550, 3200, 0.30, min_width=100),
+        _req(OH_BONDED, 3550, 3200, 0.12, min_width=100),
         _req("C-O stretch, alcohols", 1060, 1000, 0.50),
     ),
     forbidden_bands=(_forbid(CARBONYL_ANY, 1760, 1690, 0.05),),

@@ -76,8 +76,8 @@ def _band(position: float, height: float, fwhm: float, eta: float = 0.5, note: s
     return BandShape(position=position, height=height, fwhm=fwhm, eta=eta, note=note)
 
 
-WATER_IN_SOLVENT = (_band(3450, 0.11, 330, 0.3, "O-H of dissolved water"), _band(1640, 0.03, 50, 0.5, "water bending"))
-STEARIC_ACID_CARBONYL = (_band(1702, 0.13, 22, 0.5, "carboxylic acid C=O of free stearic acid"),)
+WATER_IN_SOLVENT = (_band(3450, 0.15, 330, 0.3, "O-H of dissolved water"), _band(1640, 0.03, 50, 0.5, "water bending"))
+STEARIC_ACID_CARBONYL = (_band(1702, 0.20, 22, 0.5, "carboxylic acid C=O of free stearic acid"),)
 VINYL_ACETATE_ESTER = (_band(1735, 0.30, 22, 0.5, "ester C=O of a vinyl acetate copolymer"),
                        _band(1240, 0.18, 25, 0.5, "ester C-O"))
 
