@@ -1,0 +1,157 @@
+"""`seed_demo`: every scenario of the demo ends in the verdicts and lot states it was built for.
+
+The seeding runs once per module on a temporary SQLite demo database through the real use cases;
+each test then reads the records back through the same use cases the pages call.
+"""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+from typing import Any
+
+import pytest
+
+from service import services as uc
+from service.config import Mode, Settings
+from service.services.demo import DEMO_DATA_DIR, DEMO_PEOPLE, DemoRefused, seed_demo
+from service.store.demo_marker import SEEDED, demo_marker
+from service.store.engine import make_engine
+from service.store.migrations import upgrade
+
+MANIFEST = json.loads((DEMO_DATA_DIR / "scenario.json").read_text(encoding="utf-8"))
+
+
+@pytest.fixture(scope="module")
+def seeded(tmp_path_factory: pytest.TempPathFactory) -> dict[str, Any]:
+    url = f"sqlite:///{tmp_path_factory.mktemp('demo') / 'demo.db'}"
+    upgrade(url)
+    settings = Settings(database_url=url, mode=Mode.demo)
+    logins = seed_demo(settings)
+    engine = make_engine(url)
+    lots = {lot.supplier_lot: uc.get_lot(engine, lot.code) for lot in uc.list_lots(engine)}
+    by_key = {s["key"]: lots[s["supplier_lot"]] for s in MANIFEST["lots"]}
+    yield {"url": url, "settings": settings, "logins": logins, "engine": engine, "lots": by_key}
+    engine.dispose()
+
+
+def _verdicts(lot: Any) -> list[str | None]:
+    return [m.verdict for m in sorted(lot.measurements, key=lambda m: (m.container, m.id))]
+
+
+def _failed(m: Any) -> dict[str, dict[str, Any]]:
+    assert m.evaluation is not None
+    return {c["kind"]: c for c in m.evaluation.document["criteria"] if c["outcome"] == "fail"}
+
+
+def test_people_of_every_role_are_created_with_their_logins(seeded: dict[str, Any]) -> None:
+    assert {role for _u, _p, role in seeded["logins"]} == {"technician", "supervisor", "quality", "administrator"}
+    users = {u.username: u for u in uc.list_users(seeded["engine"])}
+    for person in DEMO_PEOPLE:
+        assert person.role in users[person.username].roles
+
+
+def test_every_material_has_an_approved_spec_reference_and_supplier(seeded: dict[str, Any]) -> None:
+    engine = seeded["engine"]
+    for m in MANIFEST["materials"]:
+        spec = uc.effective_spec(engine, m["code"])
+        assert spec.status == "approved" and spec.document["material"] == m["code"]
+        assert [r.status for r in uc.list_references(engine, material_code=m["code"])] == ["approved"]
+        assert any(a.active for a in uc.supplier_approvals(engine, m["code"]))
+
+
+def test_one_instrument_is_qualified_and_the_other_is_not(seeded: dict[str, Any]) -> None:
+    engine, days = seeded["engine"], seeded["settings"].instrument_check_days
+    assert uc.get_instrument(engine, "FTIR-01", check_days=days).qualified
+    assert not uc.get_instrument(engine, "FTIR-02", check_days=days).qualified
+
+
+def test_clean_pass_awaits_qa_disposition(seeded: dict[str, Any]) -> None:
+    lot = seeded["lots"]["clean-pass"]
+    assert _verdicts(lot) == ["pass", "pass"]
+    assert lot.state == "awaiting_disposition"
+
+
+def test_wet_lot_fails_its_forbidden_o_h_band(seeded: dict[str, Any]) -> None:
+    lot = seeded["lots"]["wet"]
+    assert _verdicts(lot) == ["fail"] and lot.state == "awaiting_review"
+    failed = _failed(lot.measurements[0])
+    assert set(failed) == {"forbidden_band"} and "O-H" in failed["forbidden_band"]["label"]
+
+
+def test_mix_up_fails_the_fingerprint_and_names_the_material_in_the_container(seeded: dict[str, Any]) -> None:
+    lot = seeded["lots"]["mix-up"]
+    assert _verdicts(lot) == ["pass", "fail"] and lot.state == "awaiting_review"
+    failed = _failed(sorted(lot.measurements, key=lambda m: m.container)[1])
+    assert "fingerprint" in failed
+    assert failed["specificity"]["details"]["closest_other_material"] == "SOL-202"
+
+
+def test_contaminated_lot_fails_on_the_extra_carbonyl_only(seeded: dict[str, Any]) -> None:
+    lot = seeded["lots"]["contaminated"]
+    assert _verdicts(lot) == ["fail"] and lot.state == "awaiting_review"
+    failed = _failed(lot.measurements[0])
+    assert set(failed) == {"forbidden_band"} and "C=O" in failed["forbidden_band"]["label"]
+
+
+def test_saturated_measurement_is_invalid_and_the_lot_waits_for_a_new_one(seeded: dict[str, Any]) -> None:
+    lot = seeded["lots"]["invalid"]
+    assert _verdicts(lot) == ["invalid"] and lot.state == "testing"
+    assert any(c["kind"] == "quality" for c in _failed(lot.measurements[0]).values())
+
+
+def test_upload_on_the_unqualified_instrument_is_kept_but_refused(seeded: dict[str, Any]) -> None:
+    lot = seeded["lots"]["instrument-lapsed"]
+    assert lot.state == "quarantine"
+    (m,) = lot.measurements
+    assert m.status == "refused" and m.evaluation is None and "polystyrene" in m.reason
+
+
+def test_failed_lot_was_reviewed_and_rejected_with_a_signature(seeded: dict[str, Any]) -> None:
+    lot = seeded["lots"]["rejected"]
+    assert _verdicts(lot) == ["fail"] and lot.state == "rejected"
+    sig = next(s for s in lot.signatures if s.meaning == "rejected")
+    assert sig.printed_name == "Ines Calloway" and sig.reason
+
+
+def test_conforming_lot_was_released_by_qa_with_a_signature(seeded: dict[str, Any]) -> None:
+    lot = seeded["lots"]["released"]
+    assert _verdicts(lot) == ["pass", "pass"] and lot.state == "released"
+    sig = next(s for s in lot.signatures if s.meaning == "released")
+    assert sig.printed_name == "Ruth Okafor"
+
+
+def test_audit_trail_verifies_after_seeding(seeded: dict[str, Any]) -> None:
+    report = uc.verify_audit(seeded["engine"])
+    assert report.ok, report.first_problem
+    assert report.signatures >= 8 + 8 + 2  # spec and reference approvals, review, release
+
+
+def test_second_run_reuses_the_seeded_database(seeded: dict[str, Any]) -> None:
+    engine = seeded["engine"]
+    before = (len(uc.list_lots(engine)), uc.verify_audit(engine).events)
+    assert seed_demo(seeded["settings"]) == seeded["logins"]
+    assert (len(uc.list_lots(engine)), uc.verify_audit(engine).events) == before
+    assert demo_marker(engine) == SEEDED
+
+
+def test_refuses_outside_demo_mode(sqlite_url: str) -> None:
+    upgrade(sqlite_url)
+    with pytest.raises(DemoRefused, match="demo mode"):
+        seed_demo(Settings(database_url=sqlite_url, mode=Mode.dev))
+
+
+def test_refuses_a_database_with_records_that_is_not_the_demo_one(db_url: str) -> None:
+    engine = make_engine(db_url)
+    try:
+        uc.create_material(engine, uc.SYSTEM_ACTOR, code="RM-1", name="Real material")
+        with pytest.raises(DemoRefused, match="not a demo database"):
+            seed_demo(Settings(database_url=db_url, mode=Mode.demo))
+        assert demo_marker(engine) is None
+        assert [m.code for m in uc.list_materials(engine)] == ["RM-1"]
+    finally:
+        engine.dispose()
+
+
+def test_demo_data_folder_is_found_from_the_installed_package() -> None:
+    assert (DEMO_DATA_DIR / "scenario.json").is_file() and DEMO_DATA_DIR == Path(__file__).parents[2] / "demo_data"
