@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import json
 from collections import OrderedDict
+from collections.abc import Callable
 from typing import Any
 
 from service.errors import ServiceUnavailable
@@ -61,44 +62,47 @@ def parse_specification(document: dict[str, Any]) -> Any:
     return spec
 
 
-def evaluate(*, sample: Any, spec: Any, reference: Any, library: Any = None) -> Any:
+def evaluate(*, sample: Any, spec: Any, reference: Any, library: Any = None,
+             reference_preparation: str | None = None) -> Any:
     """Run the evaluator; returns an object with ``.verdict`` and ``.as_dict()``."""
     try:
         from service.evaluation import evaluate as _evaluate
     except ImportError as exc:  # pragma: no cover
         raise _missing("the evaluator", exc) from None
-    return _evaluate(sample, spec, reference, library)
+    return _evaluate(sample, spec, reference, library, reference_preparation=reference_preparation)
 
 
-def spec_preparation(spec: Any) -> str | None:
-    """The preparation a specification asks for (to pick the matching reference), if it names one."""
-    prep = getattr(spec, "preparation", None)
-    if prep is None:
+_libraries: "OrderedDict[tuple[Any, ...], Any]" = OrderedDict()
+
+
+def reference_spectrum(sha256: str, load: Callable[[], tuple[bytes, str]]) -> Any:
+    """A stored reference read once and cached by its SHA-256; ``load`` gives (bytes, file name) on a miss."""
+    if sha256 in _spectra:
+        _spectra.move_to_end(sha256)
+        return _spectra[sha256]
+    data, name = load()
+    return read_cached(data, file_name=name)
+
+
+def library_for(entries: list[tuple[int, str, str]], load: Callable[[int], tuple[bytes, str]]) -> Any:
+    """The mix-up library of approved references, cached by their (id, material code, sha256).
+
+    ``load(reference_id)`` gives (bytes, file name) for a reference not yet cached; an empty list
+    gives None (no library search).
+    """
+    if not entries:
         return None
-    return str(getattr(prep, "value", prep)) or None
-
-
-def check_polystyrene(spectrum: Any) -> tuple[bool, dict[str, Any]]:
-    """Run the polystyrene film check; returns (passed, JSON-safe result)."""
+    key = tuple(entries)
+    if key in _libraries:
+        _libraries.move_to_end(key)
+        return _libraries[key]
     try:
-        from service.spectra.polystyrene import check_polystyrene as _check
+        from service.evaluation import ReferenceLibrary
     except ImportError as exc:  # pragma: no cover
-        raise _missing("the polystyrene check", exc) from None
-    result = _check(spectrum)
-    items = []
-    for item in getattr(result, "checks", ()):
-        items.append({k: _plain(getattr(item, k, None)) for k in ("name", "measured", "limit", "outcome")})
-    return bool(result.passed), {"passed": bool(result.passed), "checks": items}
-
-
-def _plain(value: Any) -> Any:
-    if value is None or isinstance(value, (str, int, bool)):
-        return value
-    if isinstance(value, float):
-        return value if value == value and abs(value) != float("inf") else None
-    if isinstance(value, (list, tuple)):
-        return [_plain(v) for v in value]
-    try:
-        return float(value)
-    except (TypeError, ValueError):
-        return str(value)
+        raise _missing("the reference library", exc) from None
+    lib = ReferenceLibrary.build([(code, reference_spectrum(sha, lambda rid=rid: load(rid)))
+                                  for rid, code, sha in entries])
+    _libraries[key] = lib
+    if len(_libraries) > 8:
+        _libraries.popitem(last=False)
+    return lib

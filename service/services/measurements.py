@@ -16,16 +16,19 @@ stored measurement, so callers answer with an error and the evidence is still ke
 
 from __future__ import annotations
 
+from dataclasses import dataclass
+from typing import Any
+
 from sqlalchemy.engine import Engine
 from sqlmodel import Session
 
 from service import __version__
 from service.errors import BandgateError, Conflict, FieldProblem, InvalidInput, NotFound, UnusableInput
 from service.release.actor import Actor
-from service.release.digests import canonical_json
+from service.release.digests import canonical_json, sha256_hex
 from service.release.lot_states import ContainerOutcome, LotState, LotStep, next_state, outcome_step
 from service.store import repositories as repo
-from service.store.tables import Evaluation, Lot, LotContainer, Measurement, utc_now
+from service.store.tables import Evaluation, Instrument, Lot, LotContainer, Measurement, utc_now
 from service.store.unit_of_work import UnitOfWork
 from service.services import _shared as sh
 from service.services import evaluator
@@ -78,8 +81,7 @@ def settle_lot(session: Session, actor: Actor, lot: Lot) -> None:
         set_state(session, actor, lot, step)
 
 
-def _refusal(session: Session, lot: Lot, container: LotContainer, inst_ok: tuple[bool, str],
-             has_spec_and_ref: str | None) -> str | None:
+def _refusal(session: Session, lot: Lot, container: LotContainer, inst_ok: tuple[bool, str]) -> str | None:
     if not LotState(lot.state).accepts_measurements:
         return (f"lot {lot.code} is '{LotState(lot.state).label}' and takes no more measurements"
                 + ("; a reviewer must first invalidate the failing measurement" if lot.state == "awaiting_review" else ""))
@@ -93,20 +95,86 @@ def _refusal(session: Session, lot: Lot, container: LotContainer, inst_ok: tuple
                 "invalidate that measurement with an assignable cause first")
     if not inst_ok[0]:
         return inst_ok[1]
-    return has_spec_and_ref
+    return None
+
+
+@dataclass(frozen=True)
+class _Basis:
+    """What an evaluation rests on: the approved spec and reference, read before the write lock."""
+
+    spec_id: int | None
+    spec_version: int | None
+    spec_doc: dict | None
+    ref_id: int | None
+    ref_preparation: str | None
+    reference: Any
+    library: Any
+    missing: str | None
+
+
+def _basis(session: Session, lot: Lot, *, load: bool) -> _Basis:
+    spec_row = repo.approved_spec(session, lot.material_id)
+    if spec_row is None:
+        return _Basis(None, None, None, None, None, None, None,
+                      "the material has no approved specification; the quality unit must approve one first")
+    doc = sh.loads(spec_row.document)
+    prep = doc.get("preparation")
+    prep = prep if isinstance(prep, str) else (prep or {}).get("method")
+    ref_row = repo.approved_reference(session, lot.material_id, prep) or repo.approved_reference(
+        session, lot.material_id, None)
+    if ref_row is None:
+        return _Basis(spec_row.id, spec_row.version, doc, None, None, None, None,
+                      "the material has no approved reference spectrum; the quality unit must approve one first")
+    if not load:
+        return _Basis(spec_row.id, spec_row.version, doc, ref_row.id, ref_row.preparation, None, None, None)
+
+    def load_ref(ref_id: int) -> tuple[bytes, str]:
+        r = repo.reference_by_id(session, ref_id)
+        f = repo.file_by_id(session, r.file_id) if r else None
+        return (bytes(f.content) if f else b""), (r.file_name if r else "")
+
+    codes = {m.id: m.code for m in repo.list_materials(session)}
+    entries = [(r.id or 0, codes.get(r.material_id, "?"), r.sha256) for r in repo.references(session, None, "approved")]
+    try:
+        reference = evaluator.reference_spectrum(ref_row.sha256, lambda: load_ref(ref_row.id or 0))
+        library = evaluator.library_for(entries, load_ref)
+    except BandgateError as exc:
+        return _Basis(spec_row.id, spec_row.version, doc, ref_row.id, ref_row.preparation, None, None,
+                      f"the approved reference cannot be used: {exc.message}")
+    return _Basis(spec_row.id, spec_row.version, doc, ref_row.id, ref_row.preparation, reference, library, None)
+
+
+def _evaluate(data: bytes, file_name: str, basis: _Basis) -> tuple[str, str, Any]:
+    """(status, reason, evaluation) -- runs outside the write lock."""
+    try:
+        sample = evaluator.read_spectrum(data, file_name=file_name)
+    except UnusableInput as exc:
+        return "unreadable", exc.message, None
+    try:
+        spec = evaluator.parse_specification(basis.spec_doc)  # type: ignore[arg-type]
+        result = evaluator.evaluate(sample=sample, spec=spec, reference=basis.reference, library=basis.library,
+                                    reference_preparation=basis.ref_preparation)
+    except BandgateError as exc:
+        return "unreadable", f"the spectrum could not be evaluated: {exc.message}", None
+    return "accepted", "", result
 
 
 def record_measurement(engine: Engine, actor: Actor, *, lot_code: str, container: int, instrument_code: str,
                        data: bytes, file_name: str = "", check_days: float = DEFAULT_CHECK_DAYS) -> MeasurementView:
-    """Keep an uploaded spectrum, evaluate it and move the lot on; see the module docstring."""
+    """Keep an uploaded spectrum, evaluate it and move the lot on; see the module docstring.
+
+    The file is read and evaluated before the write lock is taken (the slow part runs in
+    parallel); the write transaction then re-checks everything and stores the record, the
+    evaluation and the audit events together.
+    """
     if not isinstance(data, (bytes, bytearray)):
         raise InvalidInput("the spectrum file must be bytes", fields=[FieldProblem("file", "upload a file")])
     if not isinstance(container, int) or isinstance(container, bool):
         raise InvalidInput("the container must be a number", fields=[FieldProblem("container", "give its number")])
     data = bytes(data)
     file_name = (file_name or "").replace("\x00", "")[:MAX_FILE_NAME]
-    with UnitOfWork(engine) as uow:
-        s = uow.session
+
+    def resolve(s: Session) -> tuple[Lot, LotContainer, Instrument, str | None]:
         lot = sh.lot(s, lot_code)
         cont = repo.container_by_number(s, lot.id, container)  # type: ignore[arg-type]
         if cont is None:
@@ -114,36 +182,27 @@ def record_measurement(engine: Engine, actor: Actor, *, lot_code: str, container
                            f"container {container}", fields=[FieldProblem("container", "pick a listed container")])
         inst = sh.instrument(s, instrument_code)
         ok, _last, _until, text = qualification(s, inst, check_days=check_days)
-        spec_row = repo.approved_spec(s, lot.material_id)
-        spec_obj, ref_row, missing = None, None, None
-        if spec_row is None:
-            missing = "the material has no approved specification; the quality unit must approve one first"
-        else:
-            spec_obj = evaluator.parse_specification(sh.loads(spec_row.document))
-            ref_row = repo.approved_reference(s, lot.material_id, evaluator.spec_preparation(spec_obj))
-            if ref_row is None:
-                ref_row = repo.approved_reference(s, lot.material_id, None)
-            if ref_row is None:
-                missing = "the material has no approved reference spectrum; the quality unit must approve one first"
-        refusal = _refusal(s, lot, cont, (ok, text), missing)
+        return lot, cont, inst, _refusal(s, lot, cont, (ok, text))
 
+    with UnitOfWork(engine, write=False) as uow:
+        lot, _c, _i, refusal = resolve(uow.session)
+        basis = _basis(uow.session, lot, load=True)
+    status, reason, evaluation = "refused", refusal or basis.missing or "", None
+    if refusal is None and basis.missing is None:
+        status, reason, evaluation = _evaluate(data, file_name, basis)
+
+    with UnitOfWork(engine) as uow:
+        s = uow.session
+        lot, cont, inst, refusal = resolve(s)
+        now_basis = _basis(s, lot, load=False)
+        if refusal is None and now_basis.missing is not None:
+            refusal = now_basis.missing
+        elif refusal is None and (now_basis.spec_id, now_basis.ref_id) != (basis.spec_id, basis.ref_id):
+            refusal = "the approved specification or reference changed during the upload; upload the file again"
+        if refusal is not None:
+            status, reason, evaluation = "refused", refusal, None
         stored = repo.store_file(s, data)
         retest_of = _retest_of(s, lot, cont)
-        status, reason, evaluation = "accepted", "", None
-        if refusal is not None:
-            status, reason = "refused", refusal
-        else:
-            try:
-                sample = evaluator.read_spectrum(data, file_name=file_name)
-            except UnusableInput as exc:
-                status, reason = "unreadable", exc.message
-            else:
-                ref_file = repo.file_by_id(s, ref_row.file_id)  # type: ignore[union-attr]
-                reference = evaluator.read_cached(bytes(ref_file.content), file_name=ref_row.file_name)  # type: ignore[union-attr]
-                try:
-                    evaluation = evaluator.evaluate(sample=sample, spec=spec_obj, reference=reference)
-                except BandgateError as exc:
-                    status, reason = "unreadable", f"the spectrum could not be evaluated: {exc.message}"
         m = Measurement(lot_id=lot.id, container_id=cont.id, instrument_id=inst.id, operator_id=actor.user_id,
                         file_id=stored.id, sha256=stored.sha256, size=stored.size, file_name=file_name,
                         received_at=utc_now(), status=status, reason=reason, retest_of_id=retest_of)
@@ -153,15 +212,15 @@ def record_measurement(engine: Engine, actor: Actor, *, lot_code: str, container
             "file_name": m.file_name, "status": status, "reason": reason, "retest_of_id": retest_of})
         ev_row = None
         if evaluation is not None:
-            document = evaluation.as_dict()
-            ev_row = Evaluation(measurement_id=m.id, verdict=str(evaluation.verdict), document=canonical_json(document),
-                                spec_version_id=spec_row.id, reference_id=ref_row.id,  # type: ignore[union-attr]
+            document = canonical_json(evaluation.as_dict())
+            ev_row = Evaluation(measurement_id=m.id, verdict=str(evaluation.verdict), document=document,
+                                spec_version_id=basis.spec_id, reference_id=basis.ref_id,
                                 software_version=__version__, created_at=utc_now())
             repo.add(s, ev_row)
             sh.audit(s, actor, "evaluation.recorded", "evaluation", ev_row.id, new={
-                "measurement_id": m.id, "verdict": ev_row.verdict, "spec_version_id": ev_row.spec_version_id,
-                "spec_version": spec_row.version, "reference_id": ev_row.reference_id,  # type: ignore[union-attr]
-                "software_version": __version__, "document_sha256": sh_digest(ev_row.document)})
+                "measurement_id": m.id, "verdict": ev_row.verdict, "spec_version_id": basis.spec_id,
+                "spec_version": basis.spec_version, "reference_id": basis.ref_id,
+                "software_version": __version__, "document_sha256": sha256_hex(document)})
             if not cont.sampled:
                 cont.sampled, cont.sampled_at = True, utc_now()
                 s.add(cont)
@@ -173,19 +232,12 @@ def record_measurement(engine: Engine, actor: Actor, *, lot_code: str, container
         uow.commit()
         view = measurement_view(m, lot_code=lot.code, container=cont.number, instrument=inst.code,
                                 operator=actor.printed_name, evaluation=ev_row,
-                                spec_version=spec_row.version if (spec_row and ev_row) else None,
-                                invalidation_cause=None)
+                                spec_version=basis.spec_version if ev_row else None, invalidation_cause=None)
     if status == "unreadable":
         raise UploadUnreadable(reason, measurement=view)
     if status == "refused":
         raise MeasurementRefused(reason, measurement=view)
     return view
-
-
-def sh_digest(text: str) -> str:
-    from service.release.digests import sha256_hex
-
-    return sha256_hex(text)
 
 
 def _retest_of(session: Session, lot: Lot, cont: LotContainer) -> int | None:

@@ -40,9 +40,13 @@ def create_spec_draft(engine: Engine, actor: Actor, *, material_code: str, docum
     if not isinstance(document, dict):
         raise InvalidInput("the specification must be a JSON object", fields=[FieldProblem("spec", "send a JSON object")])
     evaluator.parse_specification(document)  # raises InvalidInput naming every wrong field
+    if document.get("material") != material_code:
+        raise InvalidInput(f"the specification names material {document.get('material')!r} but is filed under "
+                           f"{material_code!r}", fields=[FieldProblem("material", f"set it to {material_code!r}")])
     with UnitOfWork(engine) as uow:
         m = sh.material(uow.session, material_code)
         version = repo.next_spec_version(uow.session, m.id)  # type: ignore[arg-type]
+        document = {**document, "version": version}  # the record's version number is assigned here
         s = SpecificationVersion(material_id=m.id, version=version, status=DRAFT, document=canonical_json(document),
                                  created_at=utc_now(), created_by=actor.user_id)
         repo.add(uow.session, s)

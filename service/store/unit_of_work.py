@@ -44,8 +44,7 @@ class UnitOfWork:
             conn.close()
             raise
         self._conn = conn
-        self.session = Session(bind=conn, expire_on_commit=False, autoflush=True,
-                               join_transaction_mode="conservative_savepoint")
+        self.session = Session(bind=conn, expire_on_commit=False, autoflush=True)
         return self
 
     @property
