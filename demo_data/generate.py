@@ -23,7 +23,7 @@ from demo_data.synth import Acquisition, BandShape, grid, measure
 
 BASE_SEED = 20261202
 HERE = Path(__file__).resolve().parent
-SYNTHETIC = "SYNTHETIC DEMO DATA - generated, not measured (Bandgate demo, invented scenario)"
+SYNTHETIC = "SYNTHETIC DEMO DATA - generated, not measured; Bandgate demo, invented scenario"
 SUBDIRS = ("specs", "library", "samples", "instrument", "bench", "csv")
 
 # Reference spectra are measured more carefully than routine lots: less noise, flatter baseline.
@@ -62,7 +62,7 @@ def references() -> list[Generated]:
     out = []
     for m in materials.MATERIALS:
         out.append(_spectrum(
-            f"library/{m.code}", f"{m.code} {m.name} - reference spectrum ({SYNTHETIC})",
+            f"library/{m.code}", f"{m.code} {m.name} - reference spectrum - {SYNTHETIC}",
             m.bands, REFERENCE_ACQUISITION,
             (f"material {m.code} {m.name}; preparation {m.preparation}",
              "reference spectrum of the demo library; approved in the seeded demo database"),
@@ -79,7 +79,7 @@ def _sample(meas: scenario.DemoMeasurement, lot: scenario.DemoLot | None) -> Gen
                 f"scenario: expected verdict {meas.expect}" + (f" ({meas.why})" if meas.why else "")]
     if meas.content != label.code:
         comments.append(f"scenario: the container really holds {content.code} {content.name}")
-    return _spectrum(f"samples/{meas.file_stem}", f"{meas.file_stem} ({SYNTHETIC})", bands,
+    return _spectrum(f"samples/{meas.file_stem}", f"{meas.file_stem} - {SYNTHETIC}", bands,
                      meas.acquisition, tuple(comments))
 
 
@@ -93,13 +93,13 @@ def polystyrene() -> list[Generated]:
     """A passing polystyrene film (Ph. Eur. 2.2.24 check bands) and one with a shifted wavenumber scale."""
     x = grid(high=4000.0, low=450.0, step=1.0)
     acq = Acquisition(position_jitter=0.05, height_jitter=0.01, offset=0.02, slope=0.01, noise_sd=0.001)
-    passing = _spectrum("instrument/polystyrene-film_pass", f"Polystyrene film, about 35 um ({SYNTHETIC})",
+    passing = _spectrum("instrument/polystyrene-film_pass", f"Polystyrene film, about 35 um - {SYNTHETIC}",
                         materials.POLYSTYRENE_FILM, acq,
                         ("instrument check film; band positions per Ph. Eur. 2.2.24; expected: check passes",), x)
     shifted_bands = tuple(BandShape(position=b.position + 2.5, height=b.height, fwhm=b.fwhm, eta=b.eta)
                           for b in materials.POLYSTYRENE_FILM)
     shifted = _spectrum("instrument/polystyrene-film_scale-shifted",
-                        f"Polystyrene film, wavenumber scale off by +2.5 cm-1 ({SYNTHETIC})", shifted_bands, acq,
+                        f"Polystyrene film, wavenumber scale off by +2.5 cm-1 - {SYNTHETIC}", shifted_bands, acq,
                         ("instrument check film with a drifted wavenumber scale; expected: check fails",), x)
     return [passing, shifted]
 
@@ -108,7 +108,7 @@ def bench() -> list[Generated]:
     """One 3,600-point sample (4000-401 cm-1 at 1 cm-1) for benchmarks."""
     m = materials.MICROCRYSTALLINE_CELLULOSE
     x = grid(high=4000.0, low=401.0, step=1.0)
-    return [_spectrum("bench/EXC-101_3600-points", f"EXC-101 sample, 3,600 points ({SYNTHETIC})", m.bands,
+    return [_spectrum("bench/EXC-101_3600-points", f"EXC-101 sample, 3,600 points - {SYNTHETIC}", m.bands,
                       Acquisition(), (f"{m.code} {m.name}; benchmark input; expected verdict pass",), x)]
 
 
@@ -130,16 +130,14 @@ def _csv_label() -> str:
 
 
 def _jcamp_writer() -> Callable[[Generated], str]:
-    from service.spectra import SpectrumMeta, YKind
+    from service.spectra import SpectrumMeta, YKind, write_jcamp
     from service.spectra.model import Spectrum
-
-    from service.spectra import write_jcamp  # noqa: I001  (the spectra-io writer)
 
     def write(g: Generated) -> str:
         spectrum = Spectrum.create(g.x, g.y, YKind.absorbance,
-                                   meta=SpectrumMeta(title=g.title, origin=scenario.COMPANY),
-                                   notes=(SYNTHETIC, *g.comments))
-        text = write_jcamp(spectrum, form="difdup")
+                                   meta=SpectrumMeta(title=g.title, origin=scenario.COMPANY))
+        # Values are rounded to 1e-5 absorbance, so that is the natural Y factor (compact DIFDUP text).
+        text = write_jcamp(spectrum, form="difdup", owner="synthetic demo data, free to use", y_factor=1e-5)
         return _with_comments(text, (SYNTHETIC, *g.comments))
 
     return write
