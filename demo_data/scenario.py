@@ -35,7 +35,7 @@ class DemoInstrument:
     code: str
     kind: str
     location: str
-    check_age_days: float  # age of its last passing polystyrene check when the demo is seeded
+    check_age_days: float  # 0: checked today; > 0: its check is meant to be out of date (see service/services/demo.py)
 
 
 INSTRUMENTS: tuple[DemoInstrument, ...] = (
@@ -137,8 +137,8 @@ LOTS: tuple[DemoLot, ...] = (
     DemoLot(
         key="instrument-lapsed", material="EXC-104", supplier="SUP-ARD", supplier_lot="ARD-PV-7702", containers=1,
         instrument="FTIR-02", outcome="refused", expect_refused=True,
-        story="FTIR-02's last passing polystyrene check is three days old: the upload is refused until the "
-              "instrument is checked again.",
+        story="FTIR-02 has no current passing polystyrene check (its latest check film showed the wavenumber "
+              "scale drifted): the upload is kept but refused until the instrument passes a check again.",
         measurements=(
             DemoMeasurement(file_stem="EXC-104_lot-ARD-PV-7702_c1", container=1, content="EXC-104", expect="pass"),
         ),
