@@ -21,9 +21,11 @@ from typing import Any
 
 from sqlalchemy.engine import Engine
 
+from service import services as uc
 from service.config import Mode, Settings
 from service.errors import Conflict
 from service.release.actor import Actor
+from service.services.security_accounts import create_user as create_person
 from service.store.demo_marker import SEEDED, SEEDING, demo_marker, set_demo_marker, tables_with_rows
 from service.store.engine import make_engine
 
@@ -146,32 +148,15 @@ def _seed(engine: Engine, settings: Settings, manifest: dict[str, Any], data_dir
 
 
 def _create_people(engine: Engine) -> dict[str, Actor]:
-    from service import services as uc
-
-    create = _password_user_factory()
     actors: dict[str, Actor] = {}
     for p in DEMO_PEOPLE:
-        if create is not None:
-            create(engine, username=p.username, printed_name=p.printed_name, roles=[p.role],
-                   password=p.password, must_change_password=False)
-        else:  # records without the security layer: people without passwords
-            uc.create_user(engine, uc.SYSTEM_ACTOR, username=p.username, printed_name=p.printed_name,
-                           roles=(p.role,))
+        create_person(engine, username=p.username, printed_name=p.printed_name, roles=[p.role],
+                      password=p.password, must_change_password=False)
         actors[p.role] = uc.get_actor(engine, p.username)
     return actors
 
 
-def _password_user_factory() -> Any:
-    try:
-        from service.services.security_accounts import create_user
-    except ImportError:
-        return None
-    return create_user
-
-
 def _set_up_materials(engine: Engine, qa: Actor, manifest: dict[str, Any], data_dir: Path) -> None:
-    from service import services as uc
-
     for s in manifest["suppliers"]:
         uc.create_supplier(engine, qa, name=s["name"])
     names = {s["code"]: s["name"] for s in manifest["suppliers"]}
@@ -193,8 +178,6 @@ def _set_up_materials(engine: Engine, qa: Actor, manifest: dict[str, Any], data_
 
 
 def _set_up_instruments(engine: Engine, qa: Actor, tech: Actor, manifest: dict[str, Any], data_dir: Path) -> None:
-    from service import services as uc
-
     for inst in manifest["instruments"]:
         uc.register_instrument(engine, qa, code=inst["code"], kind=inst["kind"], location=inst["location"])
         _record_check(engine, tech, inst, data_dir)
@@ -207,8 +190,6 @@ def _record_check(engine: Engine, tech: Actor, inst: dict[str, Any], data_dir: P
     qualification gets a failing check instead (its film measured with a drifted scale): not
     qualified either way, and the refusal message says what to do.
     """
-    from service import services as uc
-
     age = float(inst.get("check_age_days", 0.0))
     params = inspect.signature(uc.record_instrument_check).parameters
     when_param = next((n for n in ("checked_at", "measured_at", "now") if n in params), None)
@@ -226,8 +207,6 @@ def _record_check(engine: Engine, tech: Actor, inst: dict[str, Any], data_dir: P
 
 def _keep_instrument_qualified(engine: Engine, settings: Settings, manifest: dict[str, Any], data_dir: Path) -> None:
     """On a reused demo database, the morning polystyrene check of the instrument meant to be qualified."""
-    from service import services as uc
-
     tech = uc.get_actor(engine, next(p.username for p in DEMO_PEOPLE if p.role == "technician"))
     for inst in manifest["instruments"]:
         if float(inst.get("check_age_days", 0.0)) > 0:
@@ -239,8 +218,6 @@ def _keep_instrument_qualified(engine: Engine, settings: Settings, manifest: dic
 
 def _run_lot(engine: Engine, settings: Settings, lot: dict[str, Any], data_dir: Path, *, supplier: str,
              tech: Actor, supervisor: Actor, qa: Actor, received_on: date) -> None:
-    from service import services as uc
-
     view = uc.receive_lot(engine, tech, material_code=lot["material"], supplier_name=supplier,
                           supplier_lot=lot["supplier_lot"], containers=int(lot["containers"]),
                           received_on=received_on, retest_on=received_on + timedelta(days=730))
