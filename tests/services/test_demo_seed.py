@@ -14,6 +14,7 @@ import pytest
 
 from service import services as uc
 from service.config import Mode, Settings
+from service.services.security_accounts import create_user as create_person
 from service.services.demo import DEMO_DATA_DIR, DEMO_PEOPLE, DemoRefused, seed_demo
 from service.store.demo_marker import SEEDED, demo_marker
 from service.store.engine import make_engine
@@ -29,7 +30,8 @@ def seeded(tmp_path_factory: pytest.TempPathFactory) -> dict[str, Any]:
     settings = Settings(database_url=url, mode=Mode.demo)
     logins = seed_demo(settings)
     engine = make_engine(url)
-    lots = {lot.supplier_lot: uc.get_lot(engine, lot.code) for lot in uc.list_lots(engine)}
+    page, _total = uc.list_lots(engine)
+    lots = {lot.supplier_lot: uc.get_lot(engine, lot.code) for lot in page}
     by_key = {s["key"]: lots[s["supplier_lot"]] for s in MANIFEST["lots"]}
     yield {"url": url, "settings": settings, "logins": logins, "engine": engine, "lots": by_key}
     engine.dispose()
@@ -129,9 +131,9 @@ def test_audit_trail_verifies_after_seeding(seeded: dict[str, Any]) -> None:
 
 def test_second_run_reuses_the_seeded_database(seeded: dict[str, Any]) -> None:
     engine = seeded["engine"]
-    before = (len(uc.list_lots(engine)), uc.verify_audit(engine).events)
+    before = (uc.list_lots(engine)[1], uc.verify_audit(engine).events)
     assert seed_demo(seeded["settings"]) == seeded["logins"]
-    assert (len(uc.list_lots(engine)), uc.verify_audit(engine).events) == before
+    assert (uc.list_lots(engine)[1], uc.verify_audit(engine).events) == before
     assert demo_marker(engine) == SEEDED
 
 
@@ -144,7 +146,9 @@ def test_refuses_outside_demo_mode(sqlite_url: str) -> None:
 def test_refuses_a_database_with_records_that_is_not_the_demo_one(db_url: str) -> None:
     engine = make_engine(db_url)
     try:
-        uc.create_material(engine, uc.SYSTEM_ACTOR, code="RM-1", name="Real material")
+        create_person(engine, username="a.real", printed_name="A Real Person", roles=["quality"],
+                      password="a-real-installation-9913")
+        uc.create_material(engine, uc.get_actor(engine, "a.real"), code="RM-1", name="Real material")
         with pytest.raises(DemoRefused, match="not a demo database"):
             seed_demo(Settings(database_url=db_url, mode=Mode.demo))
         assert demo_marker(engine) is None
