@@ -159,3 +159,22 @@ def test_refuses_a_database_with_records_that_is_not_the_demo_one(db_url: str) -
 
 def test_demo_data_folder_is_found_from_the_installed_package() -> None:
     assert (DEMO_DATA_DIR / "scenario.json").is_file() and DEMO_DATA_DIR == Path(__file__).parents[2] / "demo_data"
+
+
+@pytest.mark.slow
+@pytest.mark.postgres
+def test_the_demo_seeds_on_postgresql_too(postgres_url: str) -> None:
+    upgrade(postgres_url)
+    settings = Settings(database_url=postgres_url, mode=Mode.demo)
+    assert seed_demo(settings) == [(p.username, p.password, p.role) for p in DEMO_PEOPLE]
+    engine = make_engine(postgres_url)
+    try:
+        page, total = uc.list_lots(engine)
+        states = {lot.supplier_lot: lot.state for lot in page}
+        assert total == len(MANIFEST["lots"])
+        assert states["ARD-LM-31170"] == "released" and states["ARD-PV-7655"] == "rejected"
+        assert states["BRF-2611-IP"] == "awaiting_review" and states["PEL-GLY-1187"] == "testing"
+        assert uc.verify_audit(engine).ok
+        assert demo_marker(engine) == SEEDED
+    finally:
+        engine.dispose()
