@@ -53,6 +53,6 @@ def cases() -> list[BenchCase]:
     return [
         BenchCase("migrate a fresh SQLite file to head", _migrate_only, setup=_folder, repeats=3),
         BenchCase("migrate + seed the whole demo scenario (fresh SQLite)", _migrate_and_seed, setup=_folder,
-                  repeats=3, aim="`make demo` serving in under 60 s on a fresh clone (install excluded)"),
+                  repeats=2, aim="`make demo` serving in under 60 s on a fresh clone (install excluded)"),
         BenchCase("second start: seed_demo on the seeded database", _reuse_seeded, setup=_seeded_url, repeats=5),
     ]

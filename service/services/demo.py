@@ -14,10 +14,11 @@ from __future__ import annotations
 
 import inspect
 import json
+from collections.abc import Callable
 from dataclasses import dataclass
 from datetime import date, datetime, timedelta, timezone
 from pathlib import Path
-from typing import Any
+from typing import Any, TypeVar
 
 from sqlalchemy.engine import Engine
 
@@ -25,9 +26,14 @@ from service import services as uc
 from service.config import Mode, Settings
 from service.errors import Conflict
 from service.release.actor import Actor
+from service.release.permissions import Action
 from service.services.security_accounts import create_user as create_person
+from service.services.security_sessions import SignedIn, sign_in, sign_out
+from service.services.security_signing import sign_with_password
 from service.store.demo_marker import SEEDED, SEEDING, demo_marker, set_demo_marker, tables_with_rows
 from service.store.engine import make_engine
+
+T = TypeVar("T")
 
 DEMO_DATA_DIR = Path(__file__).resolve().parents[2] / "demo_data"
 
@@ -135,45 +141,74 @@ def _where(url: str) -> str:
 
 # --- the scenario ----------------------------------------------------------------------------------
 
+SEEDING_ADDRESS = "127.0.0.1"
+SEEDING_AGENT = "bandgate demo seeding"
+
+
+@dataclass(frozen=True, kw_only=True)
+class _AtWork:
+    """A demo person signed in, signing as the pages do: user id and password for each signature."""
+
+    engine: Engine
+    person: DemoPerson
+    signed_in: SignedIn
+
+    @property
+    def actor(self) -> Actor:
+        return self.signed_in.actor
+
+    def sign(self, action: Action, perform: Callable[[Actor], T]) -> T:
+        return sign_with_password(self.engine, signed_in=self.signed_in, username=self.person.username,
+                                  password=self.person.password, action=action, address=SEEDING_ADDRESS,
+                                  perform=perform)
+
+
 def _seed(engine: Engine, settings: Settings, manifest: dict[str, Any], data_dir: Path) -> None:
     people = _create_people(engine)
-    qa, tech, supervisor = people["quality"], people["technician"], people["supervisor"]
-    _set_up_materials(engine, qa, manifest, data_dir)
-    _set_up_instruments(engine, qa, tech, manifest, data_dir)
-    suppliers = {s["code"]: s["name"] for s in manifest["suppliers"]}
-    today = datetime.now(timezone.utc).date()
-    for i, lot in enumerate(manifest["lots"]):
-        _run_lot(engine, settings, lot, data_dir, supplier=suppliers[lot["supplier"]], tech=tech,
-                 supervisor=supervisor, qa=qa, received_on=today - timedelta(days=len(manifest["lots"]) - i))
+    try:
+        qa, tech, supervisor = people["quality"], people["technician"], people["supervisor"]
+        _set_up_materials(engine, qa, manifest, data_dir)
+        _set_up_instruments(engine, qa.actor, tech.actor, manifest, data_dir)
+        suppliers = {s["code"]: s["name"] for s in manifest["suppliers"]}
+        today = datetime.now(timezone.utc).date()
+        for i, lot in enumerate(manifest["lots"]):
+            _run_lot(engine, settings, lot, data_dir, supplier=suppliers[lot["supplier"]], tech=tech.actor,
+                     supervisor=supervisor, qa=qa, received_on=today - timedelta(days=len(manifest["lots"]) - i))
+    finally:
+        for at_work in people.values():
+            sign_out(engine, at_work.signed_in.token)
 
 
-def _create_people(engine: Engine) -> dict[str, Actor]:
-    actors: dict[str, Actor] = {}
+def _create_people(engine: Engine) -> dict[str, _AtWork]:
+    people: dict[str, _AtWork] = {}
     for p in DEMO_PEOPLE:
         create_person(engine, username=p.username, printed_name=p.printed_name, roles=[p.role],
                       password=p.password, must_change_password=False)
-        actors[p.role] = uc.get_actor(engine, p.username)
-    return actors
+        signed_in = sign_in(engine, username=p.username, password=p.password, address=SEEDING_ADDRESS,
+                            user_agent=SEEDING_AGENT)
+        people[p.role] = _AtWork(engine=engine, person=p, signed_in=signed_in)
+    return people
 
 
-def _set_up_materials(engine: Engine, qa: Actor, manifest: dict[str, Any], data_dir: Path) -> None:
+def _set_up_materials(engine: Engine, qa: _AtWork, manifest: dict[str, Any], data_dir: Path) -> None:
     for s in manifest["suppliers"]:
-        uc.create_supplier(engine, qa, name=s["name"])
+        uc.create_supplier(engine, qa.actor, name=s["name"])
     names = {s["code"]: s["name"] for s in manifest["suppliers"]}
     for m in manifest["materials"]:
-        uc.create_material(engine, qa, code=m["code"], name=m["name"], description=m["description"])
+        uc.create_material(engine, qa.actor, code=m["code"], name=m["name"], description=m["description"])
         document = json.loads((data_dir / m["specification"]).read_text(encoding="utf-8"))
-        draft = uc.create_spec_draft(engine, qa, material_code=m["code"], document=document)
-        uc.approve_spec_version(engine, qa, spec_version_id=draft.id,
-                                reason="Demo specification: bands from group-frequency tables")
+        draft = uc.create_spec_draft(engine, qa.actor, material_code=m["code"], document=document)
+        qa.sign(Action.sign_approval, lambda a, sid=draft.id: uc.approve_spec_version(
+            engine, a, spec_version_id=sid, reason="Demo specification: bands from group-frequency tables"))
         ref_path = data_dir / m["reference"]
-        ref = uc.add_reference(engine, qa, material_code=m["code"], preparation=m["preparation"],
+        ref = uc.add_reference(engine, qa.actor, material_code=m["code"], preparation=m["preparation"],
                                data=ref_path.read_bytes(), file_name=ref_path.name,
                                conditions="synthetic demo reference; 4 cm-1 resolution, 32 scans (invented)")
-        uc.approve_reference(engine, qa, reference_id=ref.id, reason="Demo reference spectrum")
+        qa.sign(Action.sign_approval, lambda a, rid=ref.id: uc.approve_reference(
+            engine, a, reference_id=rid, reason="Demo reference spectrum"))
     for s in manifest["suppliers"]:
         for code in s["materials"]:
-            uc.approve_supplier(engine, qa, material_code=code, supplier_name=names[s["code"]],
+            uc.approve_supplier(engine, qa.actor, material_code=code, supplier_name=names[s["code"]],
                                 reduced_plan=code in s.get("reduced_sampling", []))
 
 
@@ -217,7 +252,7 @@ def _keep_instrument_qualified(engine: Engine, settings: Settings, manifest: dic
 
 
 def _run_lot(engine: Engine, settings: Settings, lot: dict[str, Any], data_dir: Path, *, supplier: str,
-             tech: Actor, supervisor: Actor, qa: Actor, received_on: date) -> None:
+             tech: Actor, supervisor: _AtWork, qa: _AtWork, received_on: date) -> None:
     view = uc.receive_lot(engine, tech, material_code=lot["material"], supplier_name=supplier,
                           supplier_lot=lot["supplier_lot"], containers=int(lot["containers"]),
                           received_on=received_on, retest_on=received_on + timedelta(days=730))
@@ -231,7 +266,8 @@ def _run_lot(engine: Engine, settings: Settings, lot: dict[str, Any], data_dir: 
             if not lot.get("expect_refused"):
                 raise
     if lot["outcome"] == "reject":
-        uc.reject_after_review(engine, supervisor, lot_code=view.code, reason=REVIEW_REASONS["reject"])
+        supervisor.sign(Action.sign_review, lambda a: uc.reject_after_review(
+            engine, a, lot_code=view.code, reason=REVIEW_REASONS["reject"]))
     elif lot["outcome"] == "release":
-        uc.dispose_lot(engine, qa, lot_code=view.code, outcome="released", reason=DISPOSITION_REASONS["release"])
-
+        qa.sign(Action.sign_disposition, lambda a: uc.dispose_lot(
+            engine, a, lot_code=view.code, outcome="released", reason=DISPOSITION_REASONS["release"]))

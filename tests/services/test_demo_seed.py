@@ -7,6 +7,7 @@ each test then reads the records back through the same use cases the pages call.
 from __future__ import annotations
 
 import json
+import sqlite3
 from pathlib import Path
 from typing import Any
 
@@ -16,6 +17,7 @@ from service import services as uc
 from service.config import Mode, Settings
 from service.services.security_accounts import create_user as create_person
 from service.services.demo import DEMO_DATA_DIR, DEMO_PEOPLE, DemoRefused, seed_demo
+from service.services.security_sessions import sign_in
 from service.store.demo_marker import SEEDED, demo_marker
 from service.store.engine import make_engine
 from service.store.migrations import upgrade
@@ -135,6 +137,64 @@ def test_second_run_reuses_the_seeded_database(seeded: dict[str, Any]) -> None:
     assert seed_demo(seeded["settings"]) == seeded["logins"]
     assert (uc.list_lots(engine)[1], uc.verify_audit(engine).events) == before
     assert demo_marker(engine) == SEEDED
+
+
+def test_every_printed_login_signs_in(seeded: dict[str, Any]) -> None:
+    for username, password, role in seeded["logins"]:
+        signed = sign_in(seeded["engine"], username=username, password=password, address="127.0.0.1")
+        assert role in signed.actor.roles and not signed.must_change_password
+
+
+@pytest.fixture
+def seeded_copy(seeded: dict[str, Any], tmp_path: Path) -> Any:
+    """A private copy of the seeded demo database (SQLite online backup), for tests that change it."""
+    src = sqlite3.connect(seeded["url"].removeprefix("sqlite:///"))
+    dst_path = tmp_path / "copy.db"
+    dst = sqlite3.connect(dst_path)
+    src.backup(dst)
+    src.close()
+    dst.close()
+    engine = make_engine(f"sqlite:///{dst_path}")
+    yield engine
+    engine.dispose()
+
+
+def _upload(engine: Any, lot_code: str, file: str, instrument: str) -> Any:
+    tech = uc.get_actor(engine, "t.ferrier")
+    path = DEMO_DATA_DIR / file
+    return uc.record_measurement(engine, tech, lot_code=lot_code, container=1, instrument_code=instrument,
+                                 data=path.read_bytes(), file_name=path.name)
+
+
+def test_tour_the_repeat_measurement_of_the_invalid_lot_passes(seeded: dict[str, Any], seeded_copy: Any) -> None:
+    code = seeded["lots"]["invalid"].code
+    m = _upload(seeded_copy, code, "samples/SOL-204_lot-PEL-GLY-1187_c1_remeasured.jdx", "FTIR-01")
+    assert m.verdict == "pass"
+    assert uc.get_lot(seeded_copy, code).state == "awaiting_disposition"
+
+
+def test_tour_a_passing_check_requalifies_the_instrument(seeded: dict[str, Any], seeded_copy: Any) -> None:
+    code = seeded["lots"]["instrument-lapsed"].code
+    tech = uc.get_actor(seeded_copy, "t.ferrier")
+    check = DEMO_DATA_DIR / "instrument/polystyrene-film_pass.jdx"
+    assert uc.record_instrument_check(seeded_copy, tech, instrument_code="FTIR-02", data=check.read_bytes(),
+                                      file_name=check.name).passed
+    m = _upload(seeded_copy, code, "samples/EXC-104_lot-ARD-PV-7702_c1.jdx", "FTIR-02")
+    assert m.verdict == "pass"
+    lot = uc.get_lot(seeded_copy, code)
+    assert lot.state == "awaiting_disposition"
+    assert [x.status for x in sorted(lot.measurements, key=lambda x: x.id)] == ["refused", "accepted"]
+
+
+def test_reused_demo_records_a_new_morning_check_when_the_old_one_lapsed(seeded: dict[str, Any],
+                                                                          seeded_copy: Any) -> None:
+    url = str(seeded_copy.url)
+    before = len(uc.instrument_checks(seeded_copy, "FTIR-01"))
+    lapsed_at_once = Settings(database_url=url, mode=Mode.demo, instrument_check_days=1e-9)
+    seed_demo(lapsed_at_once)
+    assert len(uc.instrument_checks(seeded_copy, "FTIR-01")) == before + 1
+    seed_demo(Settings(database_url=url, mode=Mode.demo))  # the default period: still qualified, nothing new
+    assert len(uc.instrument_checks(seeded_copy, "FTIR-01")) == before + 1
 
 
 def test_refuses_outside_demo_mode(sqlite_url: str) -> None:
