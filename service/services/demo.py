@@ -91,12 +91,11 @@ def load_manifest(data_dir: Path = DEMO_DATA_DIR) -> dict[str, Any]:
                           "from the source tree") from None
 
 
-def seed_demo(settings: Settings, *, data_dir: Path = DEMO_DATA_DIR) -> list[tuple[str, str, str]]:
-    """Seed the demo scenario into ``settings.database_url`` (migrated) and return the logins.
+def check_demo_database(settings: Settings) -> str | None:
+    """Refuse unless ``settings`` name the demo database; returns its marker (None when new).
 
-    Refuses outside demo mode, and refuses a database that holds records but is not marked as the
-    demo database. On an already seeded demo database it only re-records the daily polystyrene check
-    of the qualified instrument when that has lapsed.
+    Safe to call before migrating: a database that is not migrated yet but holds tables with rows
+    is refused too, so `bandgate demo` never migrates or touches a real installation.
     """
     if settings.mode is not Mode.demo:
         raise DemoRefused("demo data is seeded only in demo mode; run `bandgate demo` (or `make demo`), "
@@ -104,20 +103,36 @@ def seed_demo(settings: Settings, *, data_dir: Path = DEMO_DATA_DIR) -> list[tup
     engine = make_engine(settings.database_url)
     try:
         marker = demo_marker(engine)
-        if marker == SEEDED:
-            _keep_instrument_qualified(engine, settings, load_manifest(data_dir), data_dir)
-            return logins()
         if marker == SEEDING:
             raise DemoRefused(
                 "an earlier demo seeding of this database stopped half-way; delete the demo database file "
                 f"({_where(settings.database_url)}) and run `make demo` again")
-        busy = tables_with_rows(engine, ignore=_SEEDED_BY_MIGRATIONS)
-        if busy:
-            raise DemoRefused(
-                f"the database {_where(settings.database_url)} already holds records ({', '.join(busy[:4])}) "
-                "and is not a demo database; the demo never seeds into it. Unset BANDGATE_DATABASE_URL to use "
-                "the demo file ./var/demo.db, or point it to a new, empty database")
-        manifest = load_manifest(data_dir)
+        if marker is None:
+            busy = tables_with_rows(engine, ignore=_SEEDED_BY_MIGRATIONS)
+            if busy:
+                raise DemoRefused(
+                    f"the database {_where(settings.database_url)} already holds records ({', '.join(busy[:4])}) "
+                    "and is not a demo database; the demo never seeds into it. Unset BANDGATE_DATABASE_URL to "
+                    "use the demo file ./var/demo.db, or point it to a new, empty database")
+        return marker
+    finally:
+        engine.dispose()
+
+
+def seed_demo(settings: Settings, *, data_dir: Path = DEMO_DATA_DIR) -> list[tuple[str, str, str]]:
+    """Seed the demo scenario into ``settings.database_url`` (migrated) and return the logins.
+
+    Refuses outside demo mode, and refuses a database that holds records but is not marked as the
+    demo database (:func:`check_demo_database`). On an already seeded demo database it only
+    re-records the daily polystyrene check of the qualified instrument when that has lapsed.
+    """
+    marker = check_demo_database(settings)
+    manifest = load_manifest(data_dir)
+    engine = make_engine(settings.database_url)
+    try:
+        if marker == SEEDED:
+            _keep_instrument_qualified(engine, settings, manifest, data_dir)
+            return logins()
         set_demo_marker(engine, SEEDING)
         _seed(engine, settings, manifest, data_dir)
         set_demo_marker(engine, SEEDED)

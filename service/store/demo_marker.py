@@ -20,7 +20,10 @@ _FRAMEWORK_TABLES = frozenset({"alembic_version", "schema_info"})
 
 
 def demo_marker(engine: Engine) -> str | None:
-    """The marker's value (``seeding`` or ``seeded``), or None when the database is not marked."""
+    """The marker's value (``seeding`` or ``seeded``), or None when the database is not marked
+    (or not even migrated)."""
+    if "schema_info" not in inspect(engine).get_table_names():
+        return None
     with engine.connect() as conn:
         row = conn.execute(text("SELECT value FROM schema_info WHERE key = :k"), {"k": MARKER_KEY}).first()
     return None if row is None else str(row[0])

@@ -7,7 +7,10 @@ each test then reads the records back through the same use cases the pages call.
 from __future__ import annotations
 
 import json
+import os
 import sqlite3
+import subprocess
+import sys
 from pathlib import Path
 from typing import Any
 
@@ -238,3 +241,18 @@ def test_the_demo_seeds_on_postgresql_too(postgres_url: str) -> None:
         assert demo_marker(engine) == SEEDED
     finally:
         engine.dispose()
+
+
+def test_bandgate_demo_refuses_a_real_database_before_migrating_it(tmp_path: Path) -> None:
+    # A database of another application (or an older installation): tables with rows, no demo marker.
+    path = tmp_path / "real.db"
+    with sqlite3.connect(path) as conn:
+        conn.execute("CREATE TABLE lots (code TEXT)")
+        conn.execute("INSERT INTO lots VALUES ('L-1')")
+    env = dict(os.environ, BANDGATE_DATABASE_URL=f"sqlite:///{path}", PYTHONPATH=str(Path(__file__).parents[2]))
+    r = subprocess.run([sys.executable, "-m", "service", "demo", "--port", "1"], capture_output=True, text=True,
+                       env=env, timeout=120)
+    assert r.returncode == 2 and "not a demo database" in r.stderr and "Traceback" not in r.stderr
+    with sqlite3.connect(path) as conn:
+        tables = {row[0] for row in conn.execute("SELECT name FROM sqlite_master WHERE type = 'table'")}
+    assert tables == {"lots"}  # not migrated, not seeded
