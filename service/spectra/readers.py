@@ -17,7 +17,7 @@ from service.spectra.axis_units import XUnit
 from service.spectra.delimited import read_delimited, sniff
 from service.spectra.jcamp_reader import JcampBlock, PeakTable, read_jcamp_blocks
 from service.spectra.model import Spectrum, YKind
-from service.spectra.reader_errors import ACCEPTED_FORMATS, ReaderError
+from service.spectra.reader_errors import ACCEPTED_FORMATS, CompoundFileError, ReaderError
 
 _CONTROL = re.compile(r"[\x00-\x08\x0b\x0e-\x1f\x7f]")
 _MAGIC = (
@@ -164,9 +164,10 @@ def _one_jcamp_spectrum(blocks: list[JcampBlock]) -> Spectrum:
         f"{b.index}: {b.title or 'untitled'}" + (f" (unreadable: {b.error})" if b.error else "") for b in blocks[:6]
     )
     more = f"; and {len(blocks) - 6} more" if len(blocks) > 6 else ""
-    raise ReaderError(
+    raise CompoundFileError(
         f"the file is a compound JCAMP-DX file with {len(blocks)} blocks ({listed}{more}); one spectrum per file "
-        "is read: export the spectrum you need on its own"
+        "is read: export the spectrum you need on its own",
+        blocks=[(b.index, b.title, b.error) for b in blocks],
     )
 
 
