@@ -37,7 +37,7 @@ from service.store.unit_of_work import UnitOfWork
 from service.services import _shared as sh
 from service.services import evaluator
 from service.services.instruments import DEFAULT_CHECK_DAYS, qualification
-from service.services.lots import evidence, measurement_view
+from service.services.lots import container_results, evidence, measurement_view
 from service.services.views import MeasurementView
 
 MAX_FILE_NAME = 255
@@ -80,7 +80,7 @@ def settle_lot(session: Session, actor: Actor, lot: Lot) -> None:
     if lot.state != LotState.testing.value:
         return
     session.flush()
-    step = outcome_step(evidence(session, lot, with_documents=False).results)
+    step = outcome_step(container_results(session, lot))
     if step is not None:
         set_state(session, actor, lot, step)
 
@@ -92,10 +92,10 @@ def _refusal(session: Session, lot: Lot, container: LotContainer, inst_ok: tuple
     if not container.selected:
         return (f"container {container.number} is not in the sampling plan of lot {lot.code}; "
                 "measure one of the containers the plan selected")
-    ev = evidence(session, lot, with_documents=False)
-    outcome = next((c.outcome for c in ev.containers if c.number == container.number), "untested")
-    if outcome != ContainerOutcome.untested.value:
-        return (f"container {container.number} already has a result ({outcome}); a retest needs a reviewer to "
+    outcome = next((c.outcome for c in container_results(session, lot) if c.number == container.number),
+                   ContainerOutcome.untested)
+    if outcome is not ContainerOutcome.untested:
+        return (f"container {container.number} already has a result ({outcome.value}); a retest needs a reviewer to "
                 "invalidate that measurement with an assignable cause first")
     if not inst_ok[0]:
         return inst_ok[1]
@@ -191,11 +191,10 @@ def record_measurement(engine: Engine, actor: Actor, *, lot_code: str, container
         ok, _last, _until, text = qualification(s, inst, check_days=check_days)
         return lot, cont, inst, _refusal(s, lot, cont, (ok, text))
 
-    with UnitOfWork(engine, write=False) as uow:
-        lot, _c, _i, refusal = resolve(uow.session)
-        basis = _basis(uow.session, lot, load=True)
-    status, reason, evaluation = "refused", refusal or basis.missing or "", None
-    if refusal is None and basis.missing is None:
+    with UnitOfWork(engine, write=False) as uow:  # no lock: look up what the evaluation rests on
+        basis = _basis(uow.session, sh.lot(uow.session, lot_code), load=True)
+    status, reason, evaluation = "refused", basis.missing or "", None
+    if basis.missing is None:
         status, reason, evaluation = _evaluate(data, file_name, basis)
 
     with UnitOfWork(engine) as uow:

@@ -238,3 +238,25 @@ def container_by_id(session: Session, container_id: int) -> LotContainer | None:
 
 def lot_by_id(session: Session, lot_id: int) -> Lot | None:
     return session.get(Lot, lot_id)
+
+
+def container_verdicts(session: Session, lot_id: int) -> list[tuple[int, bool, str | None]]:
+    """(container number, selected, verdict) for every container of a lot, one row per current evaluation.
+
+    A container without an accepted, evaluated and not-invalidated measurement gives one row with
+    verdict None. One query; used to settle a lot's state on every upload.
+    """
+    from sqlalchemy import text
+
+    rows = session.connection().execute(text(
+        "SELECT c.number, c.selected, e.verdict FROM lot_containers c "
+        "LEFT JOIN measurements m ON m.container_id = c.id AND m.status = 'accepted' "
+        "AND NOT EXISTS (SELECT 1 FROM measurement_invalidations i WHERE i.measurement_id = m.id) "
+        "LEFT JOIN evaluations e ON e.measurement_id = m.id "
+        "WHERE c.lot_id = :lot ORDER BY c.number, m.id"), {"lot": lot_id}).all()
+    return [(int(n), bool(sel), v) for n, sel, v in rows]
+
+
+def operators_of_lot(session: Session, lot_id: int) -> set[int]:
+    rows = session.exec(select(Measurement.operator_id).where(Measurement.lot_id == lot_id).distinct()).all()
+    return {int(r) for r in rows}
