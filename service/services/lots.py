@@ -132,18 +132,6 @@ def evidence(session: Session, lot: Lot, *, with_documents: bool = True) -> _Evi
     return _Evidence(containers_out, results, views, {m.operator_id for m in ms})
 
 
-def container_results(session: Session, lot: Lot) -> list[ContainerResult]:
-    """Where each sampled container stands (one query; see ``container_outcome``)."""
-    verdicts: dict[int, list[str]] = {}
-    selected: dict[int, bool] = {}
-    for number, sel, verdict in repo.container_verdicts(session, lot.id):  # type: ignore[arg-type]
-        selected[number] = sel
-        bucket = verdicts.setdefault(number, [])
-        if verdict is not None:
-            bucket.append(verdict)
-    return [ContainerResult(number=n, outcome=container_outcome(v)) for n, v in verdicts.items() if selected[n]]
-
-
 def measurement_view(m: Measurement, *, lot_code: str, container: int, instrument: str, operator: str,
                      evaluation: object, spec_version: int | None, invalidation_cause: str | None,
                      signatures: tuple = (), with_document: bool = True) -> MeasurementView:

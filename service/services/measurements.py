@@ -30,14 +30,16 @@ from service import __version__
 from service.errors import BandgateError, Conflict, FieldProblem, InvalidInput, NotFound, UnusableInput
 from service.release.actor import Actor
 from service.release.digests import canonical_json, sha256_hex
-from service.release.lot_states import ContainerOutcome, LotState, LotStep, next_state, outcome_step
+from service.release.lot_states import (
+    ContainerOutcome, LotState, LotStep, container_outcome, next_state, outcome_from_counts,
+)
 from service.store import repositories as repo
 from service.store.tables import Evaluation, Instrument, Lot, LotContainer, Measurement, utc_now
 from service.store.unit_of_work import UnitOfWork
 from service.services import _shared as sh
 from service.services import evaluator
 from service.services.instruments import DEFAULT_CHECK_DAYS, qualification
-from service.services.lots import container_results, evidence, measurement_view
+from service.services.lots import evidence, measurement_view
 from service.services.views import MeasurementView
 
 MAX_FILE_NAME = 255
@@ -80,7 +82,8 @@ def settle_lot(session: Session, actor: Actor, lot: Lot) -> None:
     if lot.state != LotState.testing.value:
         return
     session.flush()
-    step = outcome_step(container_results(session, lot))
+    sampled, with_result, failed = repo.lot_progress(session, lot.id)  # type: ignore[arg-type]
+    step = outcome_from_counts(sampled=sampled, with_result=with_result, failed=failed)
     if step is not None:
         set_state(session, actor, lot, step)
 
@@ -92,8 +95,7 @@ def _refusal(session: Session, lot: Lot, container: LotContainer, inst_ok: tuple
     if not container.selected:
         return (f"container {container.number} is not in the sampling plan of lot {lot.code}; "
                 "measure one of the containers the plan selected")
-    outcome = next((c.outcome for c in container_results(session, lot) if c.number == container.number),
-                   ContainerOutcome.untested)
+    outcome = container_outcome(repo.container_verdicts(session, container.id))  # type: ignore[arg-type]
     if outcome is not ContainerOutcome.untested:
         return (f"container {container.number} already has a result ({outcome.value}); a retest needs a reviewer to "
                 "invalidate that measurement with an assignable cause first")

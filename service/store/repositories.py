@@ -240,21 +240,35 @@ def lot_by_id(session: Session, lot_id: int) -> Lot | None:
     return session.get(Lot, lot_id)
 
 
-def container_verdicts(session: Session, lot_id: int) -> list[tuple[int, bool, str | None]]:
-    """(container number, selected, verdict) for every container of a lot, one row per current evaluation.
+_CURRENT_RESULTS = (
+    "FROM lot_containers c "
+    "LEFT JOIN measurements m ON m.container_id = c.id AND m.status = 'accepted' "
+    "AND NOT EXISTS (SELECT 1 FROM measurement_invalidations i WHERE i.measurement_id = m.id) "
+    "LEFT JOIN evaluations e ON e.measurement_id = m.id "
+)
 
-    A container without an accepted, evaluated and not-invalidated measurement gives one row with
-    verdict None. One query; used to settle a lot's state on every upload.
-    """
+
+def container_verdicts(session: Session, container_id: int) -> list[str]:
+    """Verdicts of the container's current (accepted, evaluated, not invalidated) measurements."""
     from sqlalchemy import text
 
     rows = session.connection().execute(text(
-        "SELECT c.number, c.selected, e.verdict FROM lot_containers c "
-        "LEFT JOIN measurements m ON m.container_id = c.id AND m.status = 'accepted' "
-        "AND NOT EXISTS (SELECT 1 FROM measurement_invalidations i WHERE i.measurement_id = m.id) "
-        "LEFT JOIN evaluations e ON e.measurement_id = m.id "
-        "WHERE c.lot_id = :lot ORDER BY c.number, m.id"), {"lot": lot_id}).all()
-    return [(int(n), bool(sel), v) for n, sel, v in rows]
+        "SELECT e.verdict " + _CURRENT_RESULTS + "WHERE c.id = :c AND e.verdict IS NOT NULL ORDER BY m.id"),
+        {"c": container_id}).all()
+    return [str(r[0]) for r in rows]
+
+
+def lot_progress(session: Session, lot_id: int) -> tuple[int, int, int]:
+    """(containers in the plan, of them with a pass or fail result, of them failed) -- one aggregate query."""
+    from sqlalchemy import text
+
+    row = session.connection().execute(text(
+        "SELECT COUNT(*), COALESCE(SUM(r.has_result), 0), COALESCE(SUM(r.has_fail), 0) FROM ("
+        "SELECT c.id, MAX(CASE WHEN e.verdict IN ('pass', 'fail') THEN 1 ELSE 0 END) AS has_result, "
+        "MAX(CASE WHEN e.verdict = 'fail' THEN 1 ELSE 0 END) AS has_fail "
+        + _CURRENT_RESULTS + "WHERE c.lot_id = :lot AND c.selected = :yes GROUP BY c.id) r"),
+        {"lot": lot_id, "yes": True}).one()
+    return int(row[0]), int(row[1]), int(row[2])
 
 
 def operators_of_lot(session: Session, lot_id: int) -> set[int]:
