@@ -16,7 +16,7 @@ from sqlalchemy.engine import Engine
 
 from service.errors import Conflict, FieldProblem, Forbidden, InvalidInput, NotFound
 from service.release.actor import Actor
-from service.release.permissions import Role
+from service.release.permissions import ROLE_ALIASES, Role
 from service.security.passwords import check_password_policy, hash_password, verify_password
 from service.store import security as repo
 from service.store.audit import SYSTEM_ACTOR, append_event
@@ -55,7 +55,8 @@ def _person(u: repo.UserRow, now: datetime) -> Person:
 def parse_role_names(values: list[str] | tuple[str, ...] | str, *, field: str = "roles") -> tuple[str, ...]:
     """Validate role names (comma-separated text or a list); at least one, each known."""
     items = values.split(",") if isinstance(values, str) else list(values)
-    names = tuple(sorted({v.strip().lower() for v in items if v.strip()}))
+    lowered = {v.strip().lower() for v in items if v.strip()}
+    names = tuple(sorted({ROLE_ALIASES[n].value if n in ROLE_ALIASES else n for n in lowered}))
     known = {r.value for r in Role}
     unknown = [n for n in names if n not in known]
     if not names or unknown:
