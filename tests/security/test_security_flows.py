@@ -352,3 +352,16 @@ def test_migrated_security_schema_matches_the_store_tables(db_url: str) -> None:
         return True
 
     assert [d for d in diff if ours_only(d)] == []
+
+
+def test_a_role_change_is_audited_with_old_and_new_and_applies_at_once(site: Site) -> None:
+    make_person(site.engine, "tess.tech", "technician")
+    c = site.sign_in("tess.tech")
+    assert c.get("/account/password").status_code == 200
+    accounts.set_roles(site.engine, username="tess.tech", roles="technician,supervisor", reason="promoted")
+    changes = _events(site, "roles-changed")
+    assert len(changes) == 1 and changes[0]["reason"] == "promoted"
+    assert changes[0]["new"]["roles"] == ["supervisor", "technician"]
+    assert c.get("/account/password").status_code == 303  # the old session (old rights) has ended
+    with pytest.raises(Exception, match="reason"):
+        accounts.set_roles(site.engine, username="tess.tech", roles="quality", reason=" ")
