@@ -365,3 +365,44 @@ def test_a_role_change_is_audited_with_old_and_new_and_applies_at_once(site: Sit
     assert c.get("/account/password").status_code == 303  # the old session (old rights) has ended
     with pytest.raises(Exception, match="reason"):
         accounts.set_roles(site.engine, username="tess.tech", roles="quality", reason=" ")
+
+
+def test_admin_page_shows_people_and_attempts_and_its_forms_work(site: Site) -> None:
+    make_person(site.engine, "ada.admin", "administrator")
+    make_person(site.engine, "tess.tech", "technician")
+    bad = site.client().post("/login", data={"username": "tess.tech", "password": "wrong wrong wrong"})
+    assert bad.status_code == 401 and "not right" in bad.text and "wrong wrong" not in bad.text
+    c = site.sign_in("ada.admin")
+    token = c.cookies.get("bandgate_session")
+    page = c.get("/admin/users")
+    assert page.status_code == 200 and "tess.tech" in page.text and "wrong-password" in page.text
+    r = c.post("/admin/users/tess.tech/reset-password", data={"reason": "forgot", "csrf_token": site.csrf(token)})
+    assert r.status_code == 200 and "temporary password (shown once)" in r.text
+    r = c.post("/admin/users/tess.tech/disable", data={"reason": "", "csrf_token": site.csrf(token)})
+    assert r.status_code == 422 and "reason" in r.text
+    r = c.post("/admin/users/ada.admin/disable", data={"reason": "oops", "csrf_token": site.csrf(token)})
+    assert r.status_code == 422 and "your own account" in r.text
+    # A technician may not see the page at all; one whose password was reset is sent to choose one first.
+    tom = make_person(site.engine, "tom.tech", "technician")
+    assert site.client(open_session(site.engine, tom.id, now=site.clock())).get("/admin/users").status_code == 403
+    tess = site.client(open_session(site.engine, accounts.list_people(site.engine)[1].id, now=site.clock()))
+    assert tess.get("/admin/users").headers["location"] == "/account/password"
+
+
+def test_login_throttling_answers_429_with_retry_after(site: Site) -> None:
+    make_person(site.engine, "tess.tech", "technician")
+    c = site.client()
+    for _ in range(5):
+        assert c.post("/login", data={"username": "tess.tech", "password": "wrong wrong wrong"}).status_code == 401
+    r = c.post("/login", data={"username": "tess.tech", "password": PASSWORD})
+    assert r.status_code == 429 and r.headers["retry-after"] == "1" and "wait" in r.text
+    site.clock.advance(seconds=2)
+    assert c.post("/login", data={"username": "tess.tech", "password": PASSWORD}).status_code == 303
+
+
+def test_next_after_sign_in_is_only_a_local_path(site: Site) -> None:
+    make_person(site.engine, "tess.tech", "technician")
+    for target, expected in [("/account/password", "/account/password"), ("https://evil.example/", "/"),
+                             ("//evil.example", "/"), ("/\\evil", "/")]:
+        r = site.client().post("/login", data={"username": "tess.tech", "password": PASSWORD, "next": target})
+        assert r.headers["location"] == expected
