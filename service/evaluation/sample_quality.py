@@ -23,6 +23,21 @@ NOISE_REGION_CM1 = (2000.0, 2200.0)  # band-free for most organics (common pract
 NEGATIVE_BAND_FRACTION = 0.10
 
 
+def _highest(x: np.ndarray, y: np.ndarray, lo: float, hi: float, excluded: tuple[tuple[float, float], ...]
+             ) -> tuple[float, float]:
+    """Highest value (and where) of the original points in ``lo``–``hi`` outside the excluded intervals."""
+    edges = sorted((a, b) for a, b in excluded if b > lo and a < hi)
+    best, where, start = -np.inf, float("nan"), lo
+    for a, b in edges + [(hi, hi)]:
+        i0, i1 = int(np.searchsorted(x, start)), int(np.searchsorted(x, a, side="right"))
+        if i1 > i0:
+            k = i0 + int(np.argmax(y[i0:i1]))
+            if y[k] > best:
+                best, where = float(y[k]), float(x[k])
+        start = max(start, b)
+    return (best if np.isfinite(best) else float("nan")), where
+
+
 def judge_quality(absorbance: Spectrum, prepared: Prepared, spec: Specification
                   ) -> tuple[list[Criterion], list[Notice], list[Notice]]:
     """Quality criteria, warnings and reasons for *invalid* for the sample (already in absorbance)."""
@@ -31,11 +46,7 @@ def judge_quality(absorbance: Spectrum, prepared: Prepared, spec: Specification
     warnings: list[Notice] = []
     invalid: list[Notice] = []
     x, y = absorbance.x, absorbance.y
-    sel = (x >= method.lo) & (x <= method.hi)
-    for lo, hi in method.excluded:
-        sel &= ~((x >= lo) & (x <= hi))
-    top = float(y[sel].max()) if sel.any() else float("nan")
-    top_at = float(x[sel][int(np.argmax(y[sel]))]) if sel.any() else float("nan")
+    top, top_at = _highest(x, y, method.lo, method.hi, method.excluded)
     q = spec.quality
     ok = top <= q.max_absorbance
     criteria.append(Criterion(
