@@ -14,25 +14,14 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from service.spectra import PolystyreneCheckError, Spectrum, check_polystyrene
+from service.spectra import PolystyreneCheckError, Spectrum, check_polystyrene, read_spectrum
 
 DUPDEC1 = Path(__file__).resolve().parents[1] / "data" / "jcamp" / "dupdec1.jdx"
 
 
-def _read_dupdec1() -> Spectrum:
-    try:
-        from service.spectra import read_spectrum  # type: ignore[attr-defined]
-    except ImportError:  # before the project's own reader is merged: the independent PyPI reader
-        import jcamp
-
-        d = jcamp.readfile(str(DUPDEC1))
-        return Spectrum.create(d["x"], d["y"], "percent_transmittance")
-    return read_spectrum(DUPDEC1.read_bytes(), file_name=DUPDEC1.name)
-
-
 @pytest.fixture(scope="module")
 def film() -> Spectrum:
-    return _read_dupdec1()
+    return read_spectrum(DUPDEC1.read_bytes(), file_name=DUPDEC1.name)
 
 
 def test_real_polystyrene_film_passes_ph_eur_2_2_24(film) -> None:
@@ -83,3 +72,14 @@ def test_a_spectrum_without_the_bands_fails() -> None:
     result = check_polystyrene(Spectrum.create(x, 0.1 + 1e-5 * x, "absorbance"))
     assert not result.passed
     assert all(c.outcome == "fail" for c in result.checks[:7])
+
+
+def test_same_result_through_the_independent_jcamp_reader(film) -> None:
+    """The PyPI `jcamp` package (1.3.2) as a second reader of dupdec1.jdx gives the same measurements."""
+    jcamp = pytest.importorskip("jcamp")
+    d = jcamp.readfile(str(DUPDEC1))
+    other = check_polystyrene(Spectrum.create(d["x"], d["y"], "percent_transmittance"))
+    ours = check_polystyrene(film)
+    assert other.passed and ours.passed
+    for a, b in zip(ours.checks, other.checks):
+        assert a.name == b.name and a.measured == pytest.approx(b.measured, abs=0.01)
