@@ -107,9 +107,9 @@ def cases() -> list[BenchCase]:
 
     return [
         BenchCase("preprocess + bands, 3,600 points (resample, ASLS, Savitzky-Golay, find_bands)", _chain,
-                  setup=_setup_chain("baseline_asls"), repeats=30, aim="< 2 ms median"),
+                  setup=_setup_chain("baseline_asls"), repeats=100, aim="< 2 ms median"),
         BenchCase("preprocess + bands, 3,600 points (resample, rubber band, Savitzky-Golay, find_bands)", _chain,
-                  setup=_setup_chain("baseline_rubberband"), repeats=30, aim="< 2 ms median"),
+                  setup=_setup_chain("baseline_rubberband"), repeats=100, aim="< 2 ms median"),
         BenchCase("resample onto 1 cm⁻¹ grid", lambda a: resample(a[0], a[1], np.arange(401.0, 3999.0, 1.0)),
                   setup=_spectrum, repeats=50),
         BenchCase("baseline_asls (lam 1e5, p 0.01)", lambda a: baseline_asls(a[1], lam=1e5, p=0.01),
