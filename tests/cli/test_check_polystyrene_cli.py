@@ -1,6 +1,6 @@
 """`bandgate check-polystyrene`: exit codes 0 (pass), 1 (fail), 2 (unusable), text and JSON output.
 
-Spectrum: tests/data/jcamp/dupdec1.jdx (public-domain polystyrene film, see dupdec1.ORIGIN.txt);
+Spectrum: tests/data/jcamp/dupdec1.jdx (public-domain polystyrene film, see tests/data/jcamp/README.md);
 reference values Ph. Eur. 2.2.24 as quoted in ../shared/domain.md.
 """
 
