@@ -28,6 +28,7 @@ def test_json_output(capsys) -> None:
     doc = json.loads(capsys.readouterr().out)
     assert doc["passed"] is True and doc["outcome"] == "pass" and doc["points"] == 3951
     assert len(doc["checks"]) == 9
+    assert doc["notes"] and doc["y_kind"] == "percent_transmittance" and len(doc["sha256"]) == 64
     assert all({"name", "measured", "limit", "outcome"} <= set(c) for c in doc["checks"])
 
 
