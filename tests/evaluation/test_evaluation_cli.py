@@ -7,7 +7,7 @@ from pathlib import Path
 from typing import Any
 
 import pytest
-from conftest import ESTER_BANDS, synthetic
+from evaluation_factories import ESTER_BANDS, synthetic
 
 from service.cli import main
 from service.spectra import Spectrum, write_jcamp

@@ -8,7 +8,7 @@ from typing import Any
 
 import numpy as np
 import pytest
-from conftest import ESTER_BANDS, synthetic
+from evaluation_factories import ESTER_BANDS, synthetic
 
 from service.evaluation import Evaluation, ReferenceLibrary, evaluate, parse_specification
 from service.spectra import Spectrum, YKind

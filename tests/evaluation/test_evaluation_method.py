@@ -6,7 +6,7 @@ import statistics
 
 import numpy as np
 import pytest
-from conftest import ESTER_BANDS, synthetic
+from evaluation_factories import ESTER_BANDS, synthetic
 
 from service.evaluation import Method, clear_reference_cache, evaluate, parse_specification, prepare
 from service.evaluation.limits import derive_limit

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from typing import Any
 
-from conftest import synthetic
+from evaluation_factories import synthetic
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
