@@ -15,7 +15,16 @@ from typing import Any
 from service import __version__
 from service.evaluation.criteria import judge_forbidden, judge_required
 from service.evaluation.library import ReferenceLibrary
-from service.evaluation.method import Method, Prepared, RangeNotCovered, as_absorbance, prepare, score, spectrum_data_digest, spectrum_spacing
+from service.evaluation.method import (
+    Method,
+    Prepared,
+    RangeNotCovered,
+    as_absorbance,
+    prepare,
+    score,
+    spectrum_data_digest,
+    spectrum_spacing,
+)
 from service.evaluation.result import Criterion, Evaluation, Match, Notice
 from service.evaluation.sample_quality import judge_quality
 from service.evaluation.specification import Specification
@@ -194,7 +203,8 @@ def _specificity(prepared: Prepared, own: float, spec: Specification, library: R
         measured = own - best.score if higher else best.score - own
         msg = (f"{best.material} scores {best.score:.4f}, {'at least as well as' if mixed else 'below'} the "
                f"specified reference ({own:.4f})" if higher else
-               f"{best.material} lies at distance {best.score:.4f}, {'as close as or closer than' if mixed else 'further than'} "
+               f"{best.material} lies at distance {best.score:.4f}, "
+               f"{'as close as or closer than' if mixed else 'further than'} "
                f"the specified reference ({own:.4f})")
         if mixed:
             msg = f"possible mix-up: {msg}"
