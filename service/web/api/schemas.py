@@ -149,6 +149,11 @@ class MeasurementOut(BaseModel):
 
 
 class LotSummary(BaseModel):
+    model_config = _examples({
+        "id": 7, "code": "IN-2026-00007", "material": "LACT-MONO", "material_name": "Lactose monohydrate",
+        "supplier": "Northfield Excipients", "supplier_lot": "NF-24-1187", "containers_received": 9,
+        "received_on": "2026-11-30", "retest_on": "2028-11-30", "state": "testing", "state_label": "in testing",
+        "created_at": "2026-12-02T08:00:00+00:00", "state_changed_at": "2026-12-02T09:14:03+00:00"})
     id: int
     code: str
     material: str
