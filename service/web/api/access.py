@@ -22,7 +22,7 @@ from fastapi.routing import APIRoute
 from service import errors as e
 from service.release.actor import Actor
 from service.release.permissions import Action, Scope, client_may
-from service.web.auth import Principal, declared_actions
+from service.web.auth import SESSION_COOKIE, Principal, declared_actions
 
 BEARER_SCHEME = {
     "type": "http", "scheme": "bearer",
@@ -109,6 +109,11 @@ class ApiRoute(APIRoute):
             )
 
         async def handler(request: Request) -> Response:
+            if guards and "authorization" not in request.headers and SESSION_COOKIE not in request.cookies:
+                raise e.NotAuthenticated(
+                    "no credentials: send `Authorization: Bearer <token>` with a token from "
+                    "`bandgate token create --client NAME --scope ...`"
+                )
             for guard in guards:
                 await guard(request)
             if accepted:
