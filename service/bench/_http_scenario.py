@@ -41,16 +41,18 @@ class UploadScenario:
     lots: list[str]
     sample: bytes
 
+    def slot(self, clients: int, i: int) -> tuple[str, int]:
+        """(lot code, container) of the ``i``-th upload of a run (clients 1, 4; anything else: spare lots)."""
+        n = {1: 0, 4: 1}.get(clients, 2) * (len(self.lots) // 3) * CONTAINERS_PER_LOT + i
+        return self.lots[n // CONTAINERS_PER_LOT], n % CONTAINERS_PER_LOT + 1
+
     def request_factory(self, clients: int) -> Any:
         from service.bench.http import multipart
 
-        offset = {1: 0, 4: 1}.get(clients, 2) * (len(self.lots) // 3) * CONTAINERS_PER_LOT
-
         def make(i: int) -> tuple[str, str, bytes, dict[str, str]]:
-            n = offset + i
-            code = self.lots[n // CONTAINERS_PER_LOT]
+            code, container = self.slot(clients, i)
             body, ctype = multipart(
-                {"container": str(n % CONTAINERS_PER_LOT + 1), "instrument": INSTRUMENT, "operator": "bench.tech"},
+                {"container": str(container), "instrument": INSTRUMENT, "operator": "bench.tech"},
                 {"file": ("bench-sample-synthetic.csv", self.sample, "text/csv")})
             return ("POST", f"/api/v1/lots/{code}/measurements", body,
                     {"Authorization": f"Bearer {self.token}", "Content-Type": ctype})

@@ -204,6 +204,33 @@ def _fresh_sqlite() -> str:
     return url
 
 
+def _in_process_breakdown(url: str, scenario: Any, repeats: int = 15) -> BenchReport:
+    """Where an upload's time goes: the reader alone, and the whole use case without HTTP (same data)."""
+    from service import services as uc
+    from service.services import evaluator
+    from service.store.engine import make_engine
+
+    engine = make_engine(url)
+    try:
+        reads, calls = [], []
+        for _ in range(repeats):
+            t0 = time.perf_counter()
+            evaluator.read_spectrum(scenario.sample, file_name="bench-sample-synthetic.csv")
+            reads.append((time.perf_counter() - t0) * 1e3)
+        tech = uc.get_actor(engine, "bench.tech")
+        for i in range(3, 3 + repeats):  # spare lots; the warm-up took slots 0-2
+            code, container = scenario.slot(0, i)
+            t0 = time.perf_counter()
+            uc.record_measurement(engine, tech, lot_code=code, container=container, instrument_code="BENCH-FTIR",
+                                  data=scenario.sample, file_name="bench-sample-synthetic.csv")
+            calls.append((time.perf_counter() - t0) * 1e3)
+    finally:
+        engine.dispose()
+    return BenchReport("in process, no HTTP: read the CSV / record_measurement use case (median ms)", {
+        "read_ms": round(statistics.median(reads), 2), "use_case_ms": round(statistics.median(calls), 2),
+        "repeats": repeats})
+
+
 def cases() -> list[BenchReport]:
     from service.bench._http_scenario import prepare_upload_scenario
 
@@ -221,6 +248,7 @@ def cases() -> list[BenchReport]:
             results[("upload", clients)] = run_load(
                 server.port, scenario.request_factory(clients), clients=clients, total=UPLOAD_REQUESTS,
                 expect=201)
+    reports.append(_in_process_breakdown(url, scenario))
     for clients in (1, 4):
         health = results[("healthz", clients)]
         upload = results[("upload", clients)]
