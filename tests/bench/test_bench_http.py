@@ -18,10 +18,11 @@ def test_nearest_rank_percentile() -> None:
 
 
 @pytest.mark.slow
-def test_load_loop_against_a_real_server_counts_requests_and_errors(db_url: str) -> None:
-    if not db_url.startswith("sqlite"):
-        pytest.skip("the bench runs on the SQLite default")
-    with Server(db_url) as server:
+def test_load_loop_against_a_real_server_counts_requests_and_errors(sqlite_url: str) -> None:
+    from service.store.migrations import upgrade
+
+    upgrade(sqlite_url)  # the bench runs on the SQLite default
+    with Server(sqlite_url) as server:
         ok = run_load(server.port, lambda i: ("GET", "/healthz", b"", {}), clients=2, total=40)
         bad = run_load(server.port, lambda i: ("GET", "/nothing", b"", {}), clients=1, total=5)
     figures = ok.figures()

@@ -10,7 +10,7 @@ from service.web.errors import PROBLEM_BASE
 _TEXT = {
     400: ("bad-request", "The request could not be parsed"),
     401: ("not-authenticated", "No valid bearer token"),
-    403: ("forbidden", "The token's scopes do not allow this"),
+    403: ("access-denied", "The token's scopes do not allow this"),
     404: ("not-found", "No such record"),
     409: ("conflict", "Conflicts with the record's current state, or the same Idempotency-Key is in flight"),
     413: ("payload-too-large", "The body is larger than the configured upload limit"),

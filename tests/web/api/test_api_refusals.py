@@ -32,7 +32,7 @@ def test_no_token_is_401_even_with_a_malformed_body(bare_lab: Lab) -> None:
 def test_wrong_scope_is_403_before_the_body_is_validated(bare_lab: Lab) -> None:
     r = bare_lab.client.post("/api/v1/lots", content=b"{not json", headers={
         **bare_lab.auth(bare_lab.read_token), "Content-Type": "application/json"})
-    body = _problem(r, 403, "forbidden")
+    body = _problem(r, 403, "access-denied")
     assert "receive lot" in body["detail"] and "read" in body["detail"]
 
 
