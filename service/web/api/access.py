@@ -74,6 +74,16 @@ def check_content_type(request: Request, accepted: tuple[str, ...]) -> None:
         )
 
 
+def _refuse_nul(request: Request) -> None:
+    """A NUL character in the path or query can name nothing stored (databases refuse it in text)."""
+    if "\x00" in request.url.path:
+        raise e.NotFound("the address contains a NUL character; nothing is stored under such a name")
+    bad = sorted({k for k, v in request.query_params.multi_items() if "\x00" in k or "\x00" in v})
+    if bad:
+        raise e.InvalidInput(f"query parameter {', '.join(bad)} contains a NUL character",
+                             fields=[e.FieldProblem(k, "remove the NUL character") for k in bad])
+
+
 def _guards(dependant: Any) -> list[Callable[[Request], Any]]:
     found = []
     stack = [dependant]
@@ -109,6 +119,7 @@ class ApiRoute(APIRoute):
             )
 
         async def handler(request: Request) -> Response:
+            _refuse_nul(request)
             if guards and "authorization" not in request.headers and SESSION_COOKIE not in request.cookies:
                 raise e.NotAuthenticated(
                     "no credentials: send `Authorization: Bearer <token>` with a token from "

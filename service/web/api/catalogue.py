@@ -22,7 +22,7 @@ from service.web.api.schemas import (
     InstrumentCheckOut, InstrumentCreate, InstrumentOut, MaterialCreate, MaterialOut, ReferenceOut,
     SpecificationCreate, SpecificationOut,
 )
-from service.web.api.uploads import optional_text, read_upload
+from service.web.api.uploads import check_text, optional_text, read_upload
 
 router = APIRouter(route_class=ApiRoute)
 
@@ -119,6 +119,7 @@ def add_reference(
     conditions: Annotated[str, Form(max_length=2000)] = "",
     measured_on: Annotated[date | None, Form()] = None,
 ) -> JSONResponse:
+    check_text(preparation=preparation, instrument=instrument, conditions=conditions)
     upload = read_upload(file, request)
     payload = {"material": code, "preparation": preparation, "instrument": instrument, "conditions": conditions,
                "measured_on": measured_on, "file_sha256": upload.sha256}

@@ -15,7 +15,7 @@ from service.web.api.access import ApiRoute, acting_user
 from service.web.auth import Principal, require_action
 from service.web.api.problems import problems
 from service.web.api.schemas import CAUTION, DryRunOut, LibrarySearchOut
-from service.web.api.uploads import optional_text, read_upload
+from service.web.api.uploads import check_text, optional_text, read_upload
 
 router = APIRouter(tags=["evaluation"], route_class=ApiRoute)
 
@@ -47,6 +47,7 @@ def dry_run(
     material: Annotated[str | None, Form(max_length=64, description="use this material's approved pair")] = None,
 ) -> dict[str, Any]:
     engine = request.app.state.engine
+    check_text(material=material)
     material = optional_text(material)
     spec_text = optional_text(spec)
     if material is None and (spec_text is None or reference is None):

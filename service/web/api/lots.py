@@ -18,7 +18,7 @@ from service.web.auth import Principal, require_action
 from service.web.api.idempotency import Answer, Write
 from service.web.api.problems import WRITE, problems
 from service.web.api.schemas import CAUTION, LOT_CREATE_EXAMPLE, LotCreate, LotOut, LotSummary, MeasurementOut, Page
-from service.web.api.uploads import read_upload
+from service.web.api.uploads import check_text, read_upload
 from service.web.errors import PROBLEM_BASE
 
 router = APIRouter(tags=["lots"], route_class=ApiRoute)
@@ -111,6 +111,7 @@ def upload_measurement(
     operator: Annotated[str, Form(min_length=1, max_length=64, description="username of the person who measured")],
 ) -> JSONResponse:
     engine = request.app.state.engine
+    check_text(instrument=instrument, operator=operator)
     upload = read_upload(file, request)
     actor = operator_actor(engine, username=operator)
     settings = request.app.state.settings

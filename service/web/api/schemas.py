@@ -21,8 +21,28 @@ def _examples(*examples: dict[str, Any]) -> ConfigDict:
     return ConfigDict(json_schema_extra={"examples": list(examples)})
 
 
+def _nul_paths(value: Any, path: str = "") -> list[str]:
+    """Where a NUL character hides in a JSON value (databases refuse it in text)."""
+    if isinstance(value, str):
+        return [path or "body"] if "\x00" in value else []
+    if isinstance(value, dict):
+        return [p for k, v in value.items() for p in
+                ([f"{path}.{k}".lstrip(".")] if "\x00" in str(k) else []) + _nul_paths(v, f"{path}.{k}".lstrip("."))]
+    if isinstance(value, list):
+        return [p for i, v in enumerate(value) for p in _nul_paths(v, f"{path}[{i}]")]
+    return []
+
+
 class _In(BaseModel):
     model_config = ConfigDict(extra="forbid", str_strip_whitespace=True)
+
+    @model_validator(mode="before")
+    @classmethod
+    def _no_nul(cls, data: Any) -> Any:
+        bad = _nul_paths(data)
+        if bad:
+            raise ValueError(f"text must not contain NUL characters (at {', '.join(bad[:5])})")
+        return data
 
 
 # --- problems ------------------------------------------------------------------------------------

@@ -27,6 +27,14 @@ def read_upload(file: UploadFile, request: Request, *, field: str = "file") -> U
     return Upload(data=data, sha256=hashlib.sha256(data).hexdigest(), file_name=name)
 
 
+def check_text(**fields: str | None) -> None:
+    """Refuse form fields holding a NUL character (databases refuse it in text), naming each."""
+    bad = [name for name, value in fields.items() if value is not None and "\x00" in value]
+    if bad:
+        raise e.InvalidInput(f"{', '.join(bad)} must not contain NUL characters",
+                             fields=[e.FieldProblem(name, "remove the NUL character") for name in bad])
+
+
 def optional_text(value: str | None) -> str | None:
     if value is None:
         return None
