@@ -8,7 +8,7 @@ from service.web.api.schemas import Problem
 from service.web.errors import PROBLEM_BASE
 
 _TEXT = {
-    400: ("bad-request", "The request could not be parsed"),
+    400: ("request-could-not-be-completed", "The body could not be parsed at all"),
     401: ("not-authenticated", "No valid bearer token"),
     403: ("access-denied", "The token's scopes do not allow this"),
     404: ("not-found", "No such record"),
@@ -34,4 +34,4 @@ def problems(*codes: int) -> dict[int | str, dict[str, Any]]:
     return out
 
 
-WRITE = (409, 413, 415, 422)
+WRITE = (400, 409, 413, 415, 422)

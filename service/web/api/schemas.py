@@ -21,15 +21,25 @@ def _examples(*examples: dict[str, Any]) -> ConfigDict:
     return ConfigDict(json_schema_extra={"examples": list(examples)})
 
 
-def _nul_paths(value: Any, path: str = "") -> list[str]:
+MAX_DEPTH = 32
+
+
+class _TooDeep(ValueError):
+    pass
+
+
+def _nul_paths(value: Any, path: str = "", depth: int = 0) -> list[str]:
     """Where a NUL character hides in a JSON value (databases refuse it in text)."""
+    if depth > MAX_DEPTH:
+        raise _TooDeep(f"the JSON is nested more than {MAX_DEPTH} levels deep (at {path}); flatten it")
     if isinstance(value, str):
         return [path or "body"] if "\x00" in value else []
     if isinstance(value, dict):
         return [p for k, v in value.items() for p in
-                ([f"{path}.{k}".lstrip(".")] if "\x00" in str(k) else []) + _nul_paths(v, f"{path}.{k}".lstrip("."))]
+                ([f"{path}.{k}".lstrip(".")] if "\x00" in str(k) else [])
+                + _nul_paths(v, f"{path}.{k}".lstrip("."), depth + 1)]
     if isinstance(value, list):
-        return [p for i, v in enumerate(value) for p in _nul_paths(v, f"{path}[{i}]")]
+        return [p for i, v in enumerate(value) for p in _nul_paths(v, f"{path}[{i}]", depth + 1)]
     return []
 
 
