@@ -113,3 +113,28 @@ def test_a_target_must_be_an_http_url_and_a_known_client(lab: Lab) -> None:
         notices.register_target(lab.engine, client_name="lis", url="file:///etc/passwd")
     with pytest.raises(e.NotFound):
         notices.register_target(lab.engine, client_name="nobody", url="http://127.0.0.1:9/")
+
+
+def test_the_server_sends_the_notice_by_itself_when_an_upload_decides_a_lot(lab: Lab) -> None:
+    import time
+
+    from fastapi.testclient import TestClient
+
+    receiver = Receiver([])
+    try:
+        notices.disable_target(lab.engine, client_name="dashboard")  # left unreachable by the test above
+        secret = notices.register_target(lab.engine, client_name="lis", url=receiver.url)
+        with TestClient(lab.client.app) as client:  # runs the lifespan: the dispatcher thread starts
+            code = client.post("/api/v1/lots", json=lot_body(containers=1), headers=lab.auth()).json()["code"]
+            r = client.post(f"/api/v1/lots/{code}/measurements", headers=lab.auth(),
+                            data={"container": "1", "instrument": "FTIR-01", "operator": "tina.tech"},
+                            files={"file": ("s.csv", spectrum_csv(ESTER_BANDS, seed=31), "text/csv")})
+            assert r.json()["lot_state"] == "awaiting_disposition"
+            deadline = time.monotonic() + 20
+            while time.monotonic() < deadline and not any(code.encode() in b for _h, b in receiver.received):
+                time.sleep(0.2)
+        mine = [(h, b) for h, b in receiver.received if code.encode() in b]
+        assert len(mine) == 1, receiver.received
+        assert notices.verify(mine[0][1], secret, mine[0][0]["Bandgate-Signature"])
+    finally:
+        receiver.close()
