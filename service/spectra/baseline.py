@@ -49,7 +49,7 @@ def _fitter(n: int) -> Baseline:
     if fitter is None:
         if len(cache) >= 8:
             cache.clear()
-        fitter = cache[n] = Baseline()
+        fitter = cache[n] = Baseline(check_finite=False)  # _values has checked already
     return fitter
 
 
