@@ -37,7 +37,7 @@ from service.spectra.quality import (
     assess_quality,
     coverage_findings,
 )
-from service.spectra.reader_errors import ACCEPTED_FORMATS, ReaderError
+from service.spectra.reader_errors import ACCEPTED_FORMATS, CompoundFileError, ReaderError
 from service.spectra.readers import decode_text, detect_format, read_jcamp_file, read_peak_table, read_spectrum
 from service.spectra.similarity import cosine, euclidean_distance, first_derivative_correlation, pearson
 from service.spectra.smoothing import SavitzkyGolay
@@ -48,6 +48,7 @@ __all__ = [
     "BandClasses",
     "BaselineResult",
     "CheckItem",
+    "CompoundFileError",
     "InstrumentCheck",
     "JcampBlock",
     "PH_EUR_BANDS",
