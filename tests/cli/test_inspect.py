@@ -72,6 +72,7 @@ def test_missing_file_exits_2(tmp_path: Path, capsys: pytest.CaptureFixture[str]
     assert "cannot read" in capsys.readouterr().err
 
 
+@pytest.mark.slow
 def test_no_traceback_from_the_real_command(tmp_path: Path) -> None:
     path = tmp_path / "garbage.csv"
     path.write_bytes(bytes(range(256)) * 8)
