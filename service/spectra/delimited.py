@@ -190,7 +190,8 @@ def _parse_rows(
             )
         if len(fields) != width:
             raise ReaderError(f"line {line_nos[k]} has {len(fields)} fields but line {line_nos[0]} has {width}")
-    values = [f.strip().replace(",", ".") if decimal_comma else f.strip() for r in rows for f in _split(r, sep) if f.strip()]
+    values = [f.strip().replace(",", ".") if decimal_comma else f.strip()
+              for r in rows for f in _split(r, sep) if f.strip()]
     return np.array(values, dtype=np.float64).reshape(len(rows), width), width
 
 

@@ -232,7 +232,9 @@ def _decode(text: str, first_line: int, *, cleaned: bool) -> DecodedTable:
         bad = first_y_tok[dup_i] | (counts_at < 1) | (counts_at != np.floor(counts_at)) | is_dup[prev]
         if bad.any():
             pos = int(starts[yi[dup_i[int(np.argmax(bad))]]])
-            raise ReaderError(f"a repeat count (DUP) with nothing to repeat or not a whole number on line {line_no(pos)}")
+            raise ReaderError(
+                f"a repeat count (DUP) with nothing to repeat or not a whole number on line {line_no(pos)}"
+            )
         counts = np.ones(yv.size, dtype=np.int64)
         counts[prev] = counts_at.astype(np.int64)
         counts[dup_i] = 0
