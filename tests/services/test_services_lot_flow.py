@@ -104,6 +104,22 @@ def test_failed_lot_rejected_at_review(lab) -> None:  # type: ignore[no-untyped-
     assert actions[0] == "lot.received" and "lot.rejected" in actions and "signature.created" in actions
     csv_text = uc.export_lot(lab.engine, lot.code, fmt="csv")
     assert "Rita Review" in csv_text and "rejected" in csv_text and "advice to the quality unit" in csv_text
+    # and the same through the command line
+    import os
+    import subprocess
+    import sys
+    from pathlib import Path
+
+    root = Path(__file__).resolve().parents[2]
+    out = subprocess.run([sys.executable, "-m", "service", "audit", "export", "--lot", lot.code, "--format", "csv"],
+                         capture_output=True, text=True, cwd=root, timeout=120,
+                         env=dict(os.environ, BANDGATE_DATABASE_URL=lab.url, PYTHONPATH=str(root)))
+    assert out.returncode == 0, out.stderr
+    assert out.stdout.splitlines()[0] == "section,when_utc,who,what,detail" and lot.code in out.stdout
+    missing = subprocess.run([sys.executable, "-m", "service", "audit", "export", "--lot", "IN-1900-00001"],
+                             capture_output=True, text=True, cwd=root, timeout=120,
+                             env=dict(os.environ, BANDGATE_DATABASE_URL=lab.url, PYTHONPATH=str(root)))
+    assert missing.returncode == 2 and "no lot" in missing.stderr and "Traceback" not in missing.stderr
 
 
 def test_unreadable_upload_is_kept_with_the_reason(lab) -> None:  # type: ignore[no-untyped-def]
