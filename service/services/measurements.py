@@ -194,7 +194,8 @@ def record_measurement(engine: Engine, actor: Actor, *, lot_code: str, container
         return lot, cont, inst, _refusal(s, lot, cont, (ok, text))
 
     with UnitOfWork(engine, write=False) as uow:  # no lock: look up what the evaluation rests on
-        basis = _basis(uow.session, sh.lot(uow.session, lot_code), load=True)
+        lot, _cont, _inst, _refused = resolve(uow.session)  # unknown names and closed lots fail here, early
+        basis = _basis(uow.session, lot, load=True)
     status, reason, evaluation = "refused", basis.missing or "", None
     if basis.missing is None:
         status, reason, evaluation = _evaluate(data, file_name, basis)
