@@ -279,3 +279,8 @@ def operators_of_lot(session: Session, lot_id: int) -> set[int]:
 def lot_states(session: Session) -> dict[int, tuple[str, str]]:
     """lot id -> (code, state) for every lot."""
     return {int(i): (c, st) for i, c, st in session.exec(select(Lot.id, Lot.code, Lot.state)).all()}
+
+
+def measurements_for_container(session: Session, container_id: int) -> list[Measurement]:
+    return list(session.exec(select(Measurement).where(Measurement.container_id == container_id)
+                             .order_by(col(Measurement.id))).all())
