@@ -118,7 +118,7 @@ def export_lot(engine: Engine, lot_code: str, *, fmt: str = "json") -> str:
     out = io.StringIO()
     w = csv.writer(out)
     w.writerow(["section", "when_utc", "who", "what", "detail"])
-    w.writerow(["lot", lot["created_at"], lot["created_by"], f"lot {lot['code']}",
+    w.writerow(["lot", lot["created_at"], lot["received_by"] or lot["created_by"], f"lot {lot['code']}",
                 f"material {lot['material']} ({lot['material_name']}); supplier {lot['supplier']} lot "
                 f"{lot['supplier_lot']}; {lot['containers_received']} containers; state: {lot['state_label']}"])
     w.writerow(["plan", lot["created_at"], "", lot["plan"]["kind"], lot["plan"]["reason"]

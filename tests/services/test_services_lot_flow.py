@@ -116,6 +116,7 @@ def test_failed_lot_rejected_at_review(lab) -> None:  # type: ignore[no-untyped-
                          env=dict(os.environ, BANDGATE_DATABASE_URL=lab.url, PYTHONPATH=str(root)))
     assert out.returncode == 0, out.stderr
     assert out.stdout.splitlines()[0] == "section,when_utc,who,what,detail" and lot.code in out.stdout
+    assert "Tina Tech" in out.stdout.splitlines()[1]  # who received the lot, by printed name
     missing = subprocess.run([sys.executable, "-m", "service", "audit", "export", "--lot", "IN-1900-00001"],
                              capture_output=True, text=True, cwd=root, timeout=120,
                              env=dict(os.environ, BANDGATE_DATABASE_URL=lab.url, PYTHONPATH=str(root)))
