@@ -74,10 +74,10 @@ def current_session(engine: Engine, token: str | None, *, rules: SessionRules,
         return None
     now = now or utc_now()
     with UnitOfWork(engine, write=False) as uow:
-        row = repo.session_by_token_hash(uow.session, digest(token))
-        user = repo.user_by_id(uow.session, row.user_id) if row else None
-    if row is None or user is None:
+        found = repo.session_and_user(uow.session, digest(token))
+    if found is None:
         return None
+    row, user = found
     why = end_reason(created_at=row.created_at, last_seen_at=row.last_seen_at, ended_at=row.ended_at,
                      now=now, rules=rules)
     if why is None and not user.active:
