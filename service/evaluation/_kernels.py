@@ -1,120 +1,101 @@
-"""Small numerical kernels the evaluator runs on its fixed grid.
+"""Thin adapters from the evaluator's fixed grid to the spectral core (``service.spectra``).
 
-These work on arrays already on the evaluation grid and are written for the hot path (one
-evaluation in a few milliseconds): precomputed Savitzky–Golay coefficients, one pybaselines
-solver object per grid, scipy peak finding. General-purpose versions of the same methods live in
-``service.spectra``.
+The evaluator runs on one evenly spaced grid per method, so the objects that depend only on the
+grid (Savitzky–Golay coefficients) are built once and cached; the rest are the core's own
+functions. Only the noise estimate and the vector normalisations are local: they are a few
+lines each on the hot path.
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import replace
 from functools import lru_cache
 
 import numpy as np
 from numpy.typing import NDArray
-from scipy.ndimage import convolve1d
-from scipy.signal import find_peaks, peak_widths, savgol_coeffs
+
+from service.spectra import Band, BandClasses, SavitzkyGolay, baseline_rubberband, find_bands
 
 F64 = NDArray[np.float64]
 
+__all__ = ["Band", "all_bands", "baseline", "centred_unit", "noise_rms", "savgol_derivative", "unit"]
+
+
+def baseline(x: F64, y: F64, *, method: str, lam: float, p: float, stride: int = 1) -> F64:
+    """The baseline under ``y``: asymmetric least squares (Eilers & Boelens 2005), rubber band, or none (zeros).
+
+    With ``stride`` > 1 the least-squares baseline is fitted to every ``stride``-th point with the
+    penalty scaled by ``stride⁻⁴`` (the second-difference penalty per point grows with the fourth
+    power of the spacing) and interpolated back: a baseline this stiff varies over far more
+    points than the stride, and the fit costs ``stride`` times less.
+    """
+    if method == "asls":
+        ys = y[::stride]
+        base, _ = _asls_solver(ys.size).asls(ys, lam=lam / stride**4, p=p)
+        base = np.asarray(base, dtype=np.float64)
+        return base if stride == 1 else np.interp(x, x[::stride], base)
+    if method == "rubberband":
+        return baseline_rubberband(x, y).baseline
+    return np.zeros_like(y)
+
 
 @lru_cache(maxsize=32)
-def _asls_solver(n: int, step: float):  # type: ignore[no-untyped-def]
+def _asls_solver(n: int):  # type: ignore[no-untyped-def]
+    """One pybaselines fitter per grid size: its set-up is then paid once, not per spectrum."""
     from pybaselines import Baseline
 
-    return Baseline(x_data=np.arange(n, dtype=np.float64) * step)
-
-
-def baseline_asls(y: F64, *, step: float, lam: float, p: float) -> F64:
-    """Asymmetric least squares baseline (Eilers & Boelens 2005) via pybaselines, solver cached per grid."""
-    base, _ = _asls_solver(y.size, step).asls(y, lam=lam, p=p)
-    return np.asarray(base, dtype=np.float64)
-
-
-def baseline_rubberband(x: F64, y: F64) -> F64:
-    """Lower convex hull of the points (rubber band), interpolated on the axis."""
-    from scipy.spatial import ConvexHull
-
-    pts = np.column_stack([x, y])
-    try:
-        hull = ConvexHull(pts)
-    except Exception:  # degenerate (flat) input: the line through the ends
-        return np.interp(x, x[[0, -1]], y[[0, -1]])
-    v = hull.vertices  # counter-clockwise in 2-D: from the leftmost point the walk runs along the bottom
-    v = np.roll(v, -int(np.argmin(v)))
-    idx = v[: int(np.argmax(v)) + 1]
-    return np.interp(x, x[idx], y[idx])
+    return Baseline(x_data=np.arange(n, dtype=np.float64))
 
 
 @lru_cache(maxsize=32)
-def savgol_derivative_kernel(window: int, polyorder: int) -> F64:
-    """Savitzky–Golay (1964) first-derivative coefficients, ordered for ``convolve1d``."""
-    k = savgol_coeffs(window, polyorder, deriv=1, use="conv")
-    k.setflags(write=False)
-    return k
+def _savgol(window: int, polyorder: int) -> SavitzkyGolay:
+    return SavitzkyGolay(window=window, polyorder=polyorder, deriv=1)
 
 
 def savgol_derivative(y: F64, *, window: int, polyorder: int, step: float) -> F64:
-    """First derivative by Savitzky–Golay with precomputed coefficients (edges: nearest value)."""
-    return convolve1d(y, savgol_derivative_kernel(window, polyorder), mode="nearest") / step
+    """First derivative by Savitzky–Golay (1964) with precomputed coefficients."""
+    return _savgol(window, polyorder).apply(y, step)
 
 
-@dataclass(frozen=True, kw_only=True)
-class FoundBand:
-    position_cm1: float
-    height: float  # baseline-corrected absorbance at the maximum
-    prominence: float
-    relative_intensity: float
-    fwhm_cm1: float
-    position_method: str = "parabolic"
+def all_bands(x: F64, y: F64, keep: NDArray[np.bool_], *, detection_floor: float
+              ) -> tuple[tuple[Band, ...], float]:
+    """Every band of ``y`` whose maximum lies where ``keep`` is true, and the strongest one's height.
 
-
-def bands_in_window(x: F64, y: F64, *, lo: float, hi: float, reference_height: float,
-                    min_relative_prominence: float = 0.01) -> list[FoundBand]:
-    """Bands (local maxima) whose maximum lies inside ``lo``–``hi``, strongest first.
-
-    Position by a 3-point parabola through the maximum; width at half prominence (scipy
-    ``peak_widths``); relative intensity = baseline-corrected height / ``reference_height``.
+    One prominence search over the whole grid (so each band's local baseline is the standard
+    prominence base); bands lower than ``detection_floor`` × the highest value are not counted.
+    Relative intensities and the strong/medium/weak words are against the strongest kept band.
     """
-    step = float(x[1] - x[0])
-    pad = int(round(max(60.0, (hi - lo)) / step))
-    i0 = max(int(np.searchsorted(x, lo)) - pad, 0)
-    i1 = min(int(np.searchsorted(x, hi, side="right")) + pad, x.size)
-    seg = y[i0:i1]
-    if seg.size < 3 or reference_height <= 0:
-        return []
-    peaks, props = find_peaks(seg, prominence=min_relative_prominence * reference_height)
-    if peaks.size == 0:
-        return []
-    widths = peak_widths(seg, peaks, rel_height=0.5, prominence_data=(
-        props["prominences"], props["left_bases"], props["right_bases"]))[0]
+    peak = float(y[keep].max()) if keep.any() else float(y.max())
+    if not peak > 0:
+        return (), 0.0
+    every = find_bands(x, y, min_prominence=detection_floor * peak)
+    found = [b for b in every if keep[b.index]]
+    if not found:
+        return (), 0.0
+    ref = max(b.height for b in found)
+    if ref == max(b.height for b in every):  # the core already measured against this band
+        return tuple(found), ref
+    classes = BandClasses()
     out = []
-    for k, p in enumerate(peaks):
-        pos = float(x[i0 + p])
-        if 0 < p < seg.size - 1:
-            a, b, c = seg[p - 1], seg[p], seg[p + 1]
-            den = a - 2 * b + c
-            if den < 0:
-                pos += 0.5 * (a - c) / den * step
-        if not (lo <= pos <= hi):
-            continue
-        height = float(seg[p])
-        out.append(FoundBand(position_cm1=pos, height=height, prominence=float(props["prominences"][k]),
-                             relative_intensity=height / reference_height, fwhm_cm1=float(widths[k] * step)))
-    out.sort(key=lambda b: -b.height)
-    return out
+    for b in found:
+        rel = b.height / ref
+        strength = "strong" if rel >= classes.strong else "medium" if rel >= classes.medium else "weak"
+        out.append(replace(b, relative_intensity=rel, strength=strength))
+    return tuple(out), ref
 
 
 def noise_rms(x: F64, y: F64, *, lo: float = 2000.0, hi: float = 2200.0) -> float | None:
-    """RMS of the residual after a quadratic fit in a usually band-free region (common practice)."""
-    sel = (x >= lo) & (x <= hi)
-    if sel.sum() < 10:
+    """RMS noise in a usually band-free region (common practice), from second differences.
+
+    For white noise of standard deviation σ, ``y[i-1] − 2·y[i] + y[i+1]`` has variance 6σ²,
+    while a smooth baseline contributes almost nothing: no fit is needed.
+    """
+    i0, i1 = int(np.searchsorted(x, lo)), int(np.searchsorted(x, hi, side="right"))
+    if i1 - i0 < 10:
         return None
-    xs, ys = x[sel], y[sel]
-    coef = np.polyfit(xs - xs.mean(), ys, 2)
-    resid = ys - np.polyval(coef, xs - xs.mean())
-    return float(np.sqrt(np.mean(resid * resid)))
+    seg = y[i0:i1]
+    d2 = seg[:-2] - 2.0 * seg[1:-1] + seg[2:]
+    return float(np.sqrt(np.mean(d2 * d2) / 6.0))
 
 
 def centred_unit(v: F64) -> F64:

@@ -15,7 +15,16 @@ from typing import Any
 from service import __version__
 from service.evaluation.criteria import judge_forbidden, judge_required
 from service.evaluation.library import ReferenceLibrary
-from service.evaluation.method import Method, Prepared, RangeNotCovered, as_absorbance, prepare, score, spectrum_data_digest
+from service.evaluation.method import (
+    Method,
+    Prepared,
+    RangeNotCovered,
+    as_absorbance,
+    prepare,
+    score,
+    spectrum_data_digest,
+    spectrum_spacing,
+)
 from service.evaluation.result import Criterion, Evaluation, Match, Notice
 from service.evaluation.sample_quality import judge_quality
 from service.evaluation.specification import Specification
@@ -34,10 +43,10 @@ def clear_reference_cache() -> None:
         _cache.clear()
 
 
-def _describe(s: Spectrum, digest: str) -> dict[str, Any]:
+def _describe(s: Spectrum, digest: str, spacing: float) -> dict[str, Any]:
     return {"sha256_file": s.meta.sha256 or None, "sha256_data": digest, "file_name": s.meta.file_name or None,
             "title": s.meta.title or None, "points": s.n_points, "range_cm1": [s.range_cm1[1], s.range_cm1[0]],
-            "spacing_cm1": s.spacing_cm1, "kind": s.kind.value, "notes": list(s.notes)}
+            "spacing_cm1": spacing, "kind": s.kind.value, "notes": list(s.notes)}
 
 
 def _prepared_reference(reference: Spectrum, digest: str, spec: Specification, method: Method
@@ -58,8 +67,14 @@ def _prepared_reference(reference: Spectrum, digest: str, spec: Specification, m
 
 
 def _reference_self_check(ref: Prepared, spec: Specification) -> tuple[Notice, ...]:
-    """The reference should meet its own specification's band rules; if not, say so on every result."""
+    """The reference should meet its own specification (bands, saturation); if not, say so on every result."""
     out = []
+    keep = ~ref.method.excluded_mask
+    top = float(ref.resampled[keep].max()) if keep.any() else float(ref.resampled.max())
+    if top > spec.quality.max_absorbance:
+        out.append(Notice(code="reference-saturated", message=(
+            f"the reference reaches absorbance {top:.2f}, above the specification's {spec.quality.max_absorbance:g}: "
+            "its strongest bands may be distorted; consider measuring a new reference")))
     for rule in spec.required_bands:
         c, _ = judge_required(ref, rule)
         if not c.passed:
@@ -121,6 +136,7 @@ def evaluate(sample: Spectrum, spec: Specification, reference: Spectrum, library
         invalid.append(Notice(code="wrong-range", message=f"sample: {exc}; measure over the full range"))
 
     matches: tuple[Match, ...] | None = None
+    s_step, r_step = spectrum_spacing(sample), spectrum_spacing(reference)
     if prepared is not None:
         q_criteria, q_warnings, q_invalid = judge_quality(absorbance, prepared, spec)
         criteria += q_criteria
@@ -141,17 +157,17 @@ def evaluate(sample: Spectrum, spec: Specification, reference: Spectrum, library
             if library is not None:
                 c, matches = _specificity(prepared, own, spec, library, method, top)
                 criteria.append(c)
-            if abs(sample.spacing_cm1 - reference.spacing_cm1) > 0.5 * max(sample.spacing_cm1, reference.spacing_cm1):
+            if abs(s_step - r_step) > 0.5 * max(s_step, r_step):
                 warnings.append(Notice(code="different-spacing", message=(
-                    f"sample point spacing {sample.spacing_cm1:.2f} cm⁻¹ differs from the reference's "
-                    f"{reference.spacing_cm1:.2f} cm⁻¹: compare spectra recorded under the same conditions")))
+                    f"sample point spacing {s_step:.2f} cm⁻¹ differs from the reference's "
+                    f"{r_step:.2f} cm⁻¹: compare spectra recorded under the same conditions")))
 
     verdict = "invalid" if invalid else ("fail" if any(not c.passed for c in criteria) else "pass")
     return Evaluation(
         verdict=verdict, criteria=tuple(criteria), warnings=tuple(warnings), invalid_reasons=tuple(invalid),
         specification={"material": spec.material, "name": spec.name, "version": spec.version,
                        "sha256": spec.digest(), "document": spec.as_document()},
-        sample=_describe(sample, sample_digest), reference=_describe(reference, ref_digest),
+        sample=_describe(sample, sample_digest, s_step), reference=_describe(reference, ref_digest, r_step),
         preprocessing=method.as_dict(), excluded_regions=tuple(r.as_dict() for r in spec.excluded_regions()),
         matches=matches, software={"name": "bandgate", "version": __version__},
     )
@@ -193,7 +209,8 @@ def _specificity(prepared: Prepared, own: float, spec: Specification, library: R
         measured = own - best.score if higher else best.score - own
         msg = (f"{best.material} scores {best.score:.4f}, {'at least as well as' if mixed else 'below'} the "
                f"specified reference ({own:.4f})" if higher else
-               f"{best.material} lies at distance {best.score:.4f}, {'as close as or closer than' if mixed else 'further than'} "
+               f"{best.material} lies at distance {best.score:.4f}, "
+               f"{'as close as or closer than' if mixed else 'further than'} "
                f"the specified reference ({own:.4f})")
         if mixed:
             msg = f"possible mix-up: {msg}"
