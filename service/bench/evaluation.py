@@ -8,11 +8,14 @@ a view of its first rows, and the matrix is released when the area's figures are
 
 from __future__ import annotations
 
+import os
+import statistics
+import time
 from typing import Any
 
 import numpy as np
 
-from service.bench import BenchCase, BenchResult
+from service.bench import BenchCase, BenchReport, BenchResult
 
 N_POINTS = 3600
 _state: dict[str, Any] = {}
@@ -95,8 +98,27 @@ def _sum(matrix: np.ndarray) -> None:
     np.add.reduce(matrix, axis=None)
 
 
-def cases() -> list[BenchCase]:
+def _evaluation_cpu_report() -> BenchReport:
+    """The same evaluation timed by the thread's CPU clock: on a shared machine the wall clock also counts
+    the time other processes hold the core, the CPU clock only this work."""
+    arg = _evaluation_setup()
+    _evaluate(arg)
+    cpu, wall = [], []
+    for _ in range(200):
+        t0, c0 = time.perf_counter(), time.thread_time()
+        _evaluate(arg)
+        cpu.append((time.thread_time() - c0) * 1e3)
+        wall.append((time.perf_counter() - t0) * 1e3)
+    return BenchReport(
+        name="evaluate one 3,600-point spectrum, CPU time of the evaluating thread",
+        figures={"cpu_median_ms": round(statistics.median(cpu), 3), "wall_min_ms": round(min(wall), 3),
+                 "repeats": 200, "load_average_1min": round(os.getloadavg()[0], 2)},
+        aim="median < 3 ms")
+
+
+def cases() -> list[BenchCase | BenchReport]:
     return [
+        _evaluation_cpu_report(),
         BenchCase("evaluate one 3,600-point spectrum (reference cached)", _evaluate, setup=_evaluation_setup,
                   repeats=200, aim="median < 3 ms"),
         # the 100k rows are normalised first; the 10k library is a view of its first rows

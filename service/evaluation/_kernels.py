@@ -68,10 +68,13 @@ def all_bands(x: F64, y: F64, keep: NDArray[np.bool_], *, detection_floor: float
     peak = float(y[keep].max()) if keep.any() else float(y.max())
     if not peak > 0:
         return (), 0.0
-    found = [b for b in find_bands(x, y, min_prominence=detection_floor * peak) if keep[b.index]]
+    every = find_bands(x, y, min_prominence=detection_floor * peak)
+    found = [b for b in every if keep[b.index]]
     if not found:
         return (), 0.0
     ref = max(b.height for b in found)
+    if ref == max(b.height for b in every):  # the core already measured against this band
+        return tuple(found), ref
     classes = BandClasses()
     out = []
     for b in found:

@@ -31,7 +31,7 @@ def bands_outside_exclusions(p: Prepared, lo: float, hi: float) -> list[k.Band]:
 
 def _band_details(b: k.Band) -> dict[str, Any]:
     return {"position_cm1": round(b.position_cm1, 2), "relative_intensity": b.relative_intensity,
-            "height_absorbance": b.height, "width_cm1": round(b.fwhm_cm1, 1), "strength": b.strength,
+            "height_prepared": b.height, "width_cm1": round(b.fwhm_cm1, 1), "strength": b.strength,
             "shape": b.shape, "position_method": b.position_method}
 
 

@@ -15,7 +15,16 @@ from typing import Any
 from service import __version__
 from service.evaluation.criteria import judge_forbidden, judge_required
 from service.evaluation.library import ReferenceLibrary
-from service.evaluation.method import Method, Prepared, RangeNotCovered, as_absorbance, prepare, score, spectrum_data_digest, spectrum_spacing
+from service.evaluation.method import (
+    Method,
+    Prepared,
+    RangeNotCovered,
+    as_absorbance,
+    prepare,
+    score,
+    spectrum_data_digest,
+    spectrum_spacing,
+)
 from service.evaluation.result import Criterion, Evaluation, Match, Notice
 from service.evaluation.sample_quality import judge_quality
 from service.evaluation.specification import Specification
@@ -58,8 +67,14 @@ def _prepared_reference(reference: Spectrum, digest: str, spec: Specification, m
 
 
 def _reference_self_check(ref: Prepared, spec: Specification) -> tuple[Notice, ...]:
-    """The reference should meet its own specification's band rules; if not, say so on every result."""
+    """The reference should meet its own specification (bands, saturation); if not, say so on every result."""
     out = []
+    keep = ~ref.method.excluded_mask
+    top = float(ref.resampled[keep].max()) if keep.any() else float(ref.resampled.max())
+    if top > spec.quality.max_absorbance:
+        out.append(Notice(code="reference-saturated", message=(
+            f"the reference reaches absorbance {top:.2f}, above the specification's {spec.quality.max_absorbance:g}: "
+            "its strongest bands may be distorted; consider measuring a new reference")))
     for rule in spec.required_bands:
         c, _ = judge_required(ref, rule)
         if not c.passed:
@@ -194,7 +209,8 @@ def _specificity(prepared: Prepared, own: float, spec: Specification, library: R
         measured = own - best.score if higher else best.score - own
         msg = (f"{best.material} scores {best.score:.4f}, {'at least as well as' if mixed else 'below'} the "
                f"specified reference ({own:.4f})" if higher else
-               f"{best.material} lies at distance {best.score:.4f}, {'as close as or closer than' if mixed else 'further than'} "
+               f"{best.material} lies at distance {best.score:.4f}, "
+               f"{'as close as or closer than' if mixed else 'further than'} "
                f"the specified reference ({own:.4f})")
         if mixed:
             msg = f"possible mix-up: {msg}"

@@ -28,7 +28,8 @@ from service.evaluation.specification import Specification
 from service.spectra import to_absorbance
 from service.spectra.model import Spectrum, YKind
 
-__all__ = ["Method", "Prepared", "RangeNotCovered", "finish", "metric_vector", "prepare", "score", "spectrum_data_digest"]
+__all__ = ["Method", "Prepared", "RangeNotCovered", "finish", "metric_vector", "prepare", "score",
+           "spectrum_data_digest", "spectrum_spacing"]
 
 F64 = NDArray[np.float64]
 
@@ -118,7 +119,8 @@ class Method:
             "absorbance": "A = -log10(T) for transmittance input",
             "range_cm1": [self.hi, self.lo],
             "resampling": {"method": "linear interpolation", "step_cm1": self.step, "points": int(self.grid.size)},
-            "atr_correction": ({"method": "penetration-depth scaling A·ν̃/ν̃_ref", "reference_cm1": self.atr_reference_cm1}
+            "atr_correction": ({"method": "penetration-depth scaling A·ν̃/ν̃_ref",
+                                "reference_cm1": self.atr_reference_cm1}
                                if self.atr_correction else None),
             "baseline": {"method": self.baseline},
             "metric": self.metric,
@@ -128,7 +130,8 @@ class Method:
             "band_position": "3-point parabola through the maximum",
             "band_width": "full width at half height above the local (prominence) baseline",
             "band_detection_floor": f"prominence >= {DETECTION_FLOOR:g} x the highest corrected absorbance",
-            "relative_intensity": "baseline-corrected height / strongest band in the evaluated range (outside exclusions)",
+            "relative_intensity": "band height / height of the strongest band in the evaluated range "
+                                  "(outside exclusions)",
         }
         if self.baseline == "asls":
             out["baseline"].update({"name": "asymmetric least squares (Eilers & Boelens 2005, pybaselines)",
@@ -209,7 +212,8 @@ def prepare(spectrum: Spectrum, method: Method, *, data_sha256: str | None = Non
     tol = method.coverage_tolerance
     if s.x[0] > method.lo + tol or s.x[-1] < method.hi - tol:
         raise RangeNotCovered(
-            f"the spectrum covers {s.x[-1]:.0f}–{s.x[0]:.0f} cm⁻¹ but the method needs {method.hi:g}–{method.lo:g} cm⁻¹")
+            f"the spectrum covers {s.x[-1]:.0f}–{s.x[0]:.0f} cm⁻¹ but the method needs "
+            f"{method.hi:g}–{method.lo:g} cm⁻¹")
     y = np.interp(method.grid, s.x, s.y)
     return finish(y, method, data_sha256 or spectrum_data_digest(spectrum))
 

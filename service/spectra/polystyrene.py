@@ -20,6 +20,7 @@ from numpy.typing import NDArray
 
 from service.errors import UnusableInput
 from service.spectra.bands import parabolic_offset
+from service.spectra.conversion import to_absorbance
 from service.spectra.model import Spectrum, YKind
 
 
@@ -93,16 +94,12 @@ class InstrumentCheck:
 
 
 def _absorbance(spectrum: Spectrum) -> NDArray[np.float64]:
-    factor = {YKind.transmittance: 1.0, YKind.percent_transmittance: 100.0}
-    if spectrum.kind is YKind.absorbance:
-        return np.asarray(spectrum.y, dtype=np.float64)
-    if spectrum.kind not in factor:
+    if spectrum.kind not in (YKind.absorbance, YKind.transmittance, YKind.percent_transmittance):
         raise PolystyreneCheckError(
             f"the polystyrene check needs absorbance or transmittance, not {spectrum.kind.value}"
         )
-    t = np.asarray(spectrum.y, dtype=np.float64) / factor[spectrum.kind]
-    floor = 1e-6  # -log10 of a non-positive transmittance is undefined; clip (bands there are saturated)
-    return -np.log10(np.clip(t, floor, None))
+    # T <= 0 is clipped (and noted) by the conversion; bands there are saturated anyway
+    return np.asarray(to_absorbance(spectrum).y, dtype=np.float64)
 
 
 def _band_maximum(x: NDArray[np.float64], a: NDArray[np.float64], centre: float) -> float | None:

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from typing import Any
 
-from conftest import synthetic
+from evaluation_factories import synthetic
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
@@ -66,3 +66,26 @@ def test_a_strong_band_inside_a_forbidden_window_always_fails(bands: list, seed:
     if _usable(e):
         assert e.verdict == "fail"
         assert any(c.kind == "forbidden_band" and not c.passed for c in e.criteria)
+
+
+@settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(values=st.lists(st.floats(-0.5, 6.0), min_size=16, max_size=64), lo=st.floats(400.0, 1500.0),
+       kind=st.sampled_from(["absorbance", "transmittance", "percent_transmittance"]))
+def test_any_spectrum_gets_a_verdict_never_a_crash(values: list, lo: float, kind: str) -> None:
+    """Odd data (flat, negative, spiky, short, zero transmittance) yields a verdict, not an exception."""
+    import numpy as np
+
+    from service.spectra import Spectrum
+
+    y = np.interp(np.linspace(0, 1, 800), np.linspace(0, 1, len(values)), values)
+    if kind != "absorbance":
+        y = np.clip(y / 6.0, 0.0, 1.0) * (100.0 if kind == "percent_transmittance" else 1.0)
+    x = np.linspace(lo, 4000.0, y.size)
+    sample = Spectrum.create(x, y, kind)
+    spec = _spec(required_bands=[{"label": "any", "from": 1800, "to": 1600}],
+                 forbidden_bands=[{"label": "none", "from": 1200, "to": 1100, "max_relative_intensity": 0.5}])
+    e = evaluate(sample, spec, synthetic([(1700.0, 0.5, 20.0)]))
+    assert e.verdict in {"pass", "fail", "invalid"}
+    if lo > 652.0:
+        assert e.verdict == "invalid" and "wrong-range" in [n.code for n in e.invalid_reasons]
+    assert isinstance(e.as_dict()["criteria"], list)
