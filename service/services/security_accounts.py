@@ -11,12 +11,13 @@ import re
 import secrets
 from dataclasses import dataclass
 from datetime import datetime, timezone
+from typing import Any
 
 from sqlalchemy.engine import Engine
 
 from service.errors import Conflict, FieldProblem, Forbidden, InvalidInput, NotFound
 from service.release.actor import Actor
-from service.release.permissions import Role
+from service.release.permissions import ROLE_ALIASES, Role
 from service.security.passwords import check_password_policy, hash_password, verify_password
 from service.store import security as repo
 from service.store.audit import SYSTEM_ACTOR, append_event
@@ -55,7 +56,8 @@ def _person(u: repo.UserRow, now: datetime) -> Person:
 def parse_role_names(values: list[str] | tuple[str, ...] | str, *, field: str = "roles") -> tuple[str, ...]:
     """Validate role names (comma-separated text or a list); at least one, each known."""
     items = values.split(",") if isinstance(values, str) else list(values)
-    names = tuple(sorted({v.strip().lower() for v in items if v.strip()}))
+    lowered = {v.strip().lower() for v in items if v.strip()}
+    names = tuple(sorted({ROLE_ALIASES[n].value if n in ROLE_ALIASES else n for n in lowered}))
     known = {r.value for r in Role}
     unknown = [n for n in names if n not in known]
     if not names or unknown:
@@ -82,6 +84,15 @@ def _check_printed_name(printed_name: str) -> str:
     return name
 
 
+def _collect(problems: list[FieldProblem], check: Any, *args: Any) -> Any:
+    """Run one validation; on failure keep its field problems and return None (report them all at once)."""
+    try:
+        return check(*args)
+    except InvalidInput as exc:
+        problems.extend(exc.fields or [FieldProblem("request", exc.message)])
+        return None
+
+
 def _admin_check(admin: Actor | None) -> Actor:
     """Administration from the command line acts as the system; from a page as an administrator."""
     if admin is None:
@@ -98,10 +109,13 @@ def create_user(engine: Engine, *, username: str, printed_name: str, roles: list
     changed at first sign-in (the person is then the only one who knows it)."""
     now = _now(now)
     actor = _admin_check(admin)
-    name = _check_username(username)
-    printed = _check_printed_name(printed_name)
-    role_names = parse_role_names(roles)
-    check_password_policy(password, username=name, printed_name=printed)
+    problems: list[FieldProblem] = []
+    name = _collect(problems, _check_username, username) or username
+    printed = _collect(problems, _check_printed_name, printed_name) or printed_name
+    role_names = _collect(problems, parse_role_names, roles) or ()
+    _collect(problems, lambda: check_password_policy(password, username=name, printed_name=printed))
+    if problems:
+        raise InvalidInput("; ".join(f"{p.path}: {p.message}" for p in problems), fields=problems)
     pw_hash = hash_password(password)
     with UnitOfWork(engine) as uow:
         if repo.user_by_username(uow.session, name) is not None:

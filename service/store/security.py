@@ -16,6 +16,7 @@ from sqlalchemy import (
     Column,
     DateTime,
     ForeignKey,
+    Index,
     Integer,
     MetaData,
     String,
@@ -31,6 +32,10 @@ from sqlalchemy import (
 from sqlalchemy.orm import Session
 
 metadata = MetaData()
+
+# Columns migration 0003 adds to the records layer's ``users`` table.
+SECURITY_USER_COLUMNS = frozenset({"password_hash", "password_changed_at", "must_change_password",
+                                   "failed_attempts", "last_failed_at", "locked_until", "disabled_at"})
 
 
 def _ts(name: str, nullable: bool = False) -> Column:  # type: ignore[type-arg]
@@ -76,8 +81,9 @@ sign_in_attempts = Table(
     Column("kind", String(16), nullable=False),  # sign-in | signature
     Column("username_entered", String(64), nullable=False),
     Column("user_id", Integer, ForeignKey("users.id"), nullable=True, index=True),
-    Column("address", String(64), nullable=False, index=True),
+    Column("address", String(64), nullable=False),
     Column("outcome", String(24), nullable=False),  # ok | wrong-password | unknown-user | throttled | locked | disabled
+    Index("ix_sign_in_attempts_address_time", "address", "occurred_at"),
 )
 
 api_clients = Table(

@@ -327,3 +327,82 @@ def test_an_oversized_body_is_refused_while_streaming(site: Site) -> None:
     r = small.client().post("/login", content=b"x" * (limit + 1),
                             headers={"content-type": "application/x-www-form-urlencoded"})
     assert r.status_code == 413
+
+
+def test_migrated_security_schema_matches_the_store_tables(db_url: str) -> None:
+    from alembic.autogenerate import compare_metadata
+    from alembic.migration import MigrationContext
+
+    from service.store.engine import make_engine
+    from service.store.security import metadata
+
+    engine = make_engine(db_url)
+    with engine.connect() as conn:
+        diff = compare_metadata(MigrationContext.configure(conn, opts={"compare_type": True}), metadata)
+    engine.dispose()
+    ours = set(metadata.tables) - {"users"}  # users: declared here only with the columns we use
+
+    def ours_only(d: tuple) -> bool:  # type: ignore[type-arg]
+        if d[0] in ("remove_table", "add_table"):
+            return d[1].name in ours
+        if d[0] in ("remove_index", "add_index"):
+            return d[1].table.name in ours
+        if d[0] in ("remove_column", "add_column"):
+            return d[2] in ours or (d[2] == "users" and d[0] == "add_column")
+        return True
+
+    assert [d for d in diff if ours_only(d)] == []
+
+
+def test_a_role_change_is_audited_with_old_and_new_and_applies_at_once(site: Site) -> None:
+    make_person(site.engine, "tess.tech", "technician")
+    c = site.sign_in("tess.tech")
+    assert c.get("/account/password").status_code == 200
+    accounts.set_roles(site.engine, username="tess.tech", roles="technician,supervisor", reason="promoted")
+    changes = _events(site, "roles-changed")
+    assert len(changes) == 1 and changes[0]["reason"] == "promoted"
+    assert changes[0]["new"]["roles"] == ["supervisor", "technician"]
+    assert c.get("/account/password").status_code == 303  # the old session (old rights) has ended
+    with pytest.raises(Exception, match="reason"):
+        accounts.set_roles(site.engine, username="tess.tech", roles="quality", reason=" ")
+
+
+def test_admin_page_shows_people_and_attempts_and_its_forms_work(site: Site) -> None:
+    make_person(site.engine, "ada.admin", "administrator")
+    make_person(site.engine, "tess.tech", "technician")
+    bad = site.client().post("/login", data={"username": "tess.tech", "password": "wrong wrong wrong"})
+    assert bad.status_code == 401 and "not right" in bad.text and "wrong wrong" not in bad.text
+    c = site.sign_in("ada.admin")
+    token = c.cookies.get("bandgate_session")
+    page = c.get("/admin/users")
+    assert page.status_code == 200 and "tess.tech" in page.text and "wrong-password" in page.text
+    r = c.post("/admin/users/tess.tech/reset-password", data={"reason": "forgot", "csrf_token": site.csrf(token)})
+    assert r.status_code == 200 and "temporary password (shown once)" in r.text
+    r = c.post("/admin/users/tess.tech/disable", data={"reason": "", "csrf_token": site.csrf(token)})
+    assert r.status_code == 422 and "reason" in r.text
+    r = c.post("/admin/users/ada.admin/disable", data={"reason": "oops", "csrf_token": site.csrf(token)})
+    assert r.status_code == 422 and "your own account" in r.text
+    # A technician may not see the page at all; one whose password was reset is sent to choose one first.
+    tom = make_person(site.engine, "tom.tech", "technician")
+    assert site.client(open_session(site.engine, tom.id, now=site.clock())).get("/admin/users").status_code == 403
+    tess = site.client(open_session(site.engine, accounts.list_people(site.engine)[1].id, now=site.clock()))
+    assert tess.get("/admin/users").headers["location"] == "/account/password"
+
+
+def test_login_throttling_answers_429_with_retry_after(site: Site) -> None:
+    make_person(site.engine, "tess.tech", "technician")
+    c = site.client()
+    for _ in range(5):
+        assert c.post("/login", data={"username": "tess.tech", "password": "wrong wrong wrong"}).status_code == 401
+    r = c.post("/login", data={"username": "tess.tech", "password": PASSWORD})
+    assert r.status_code == 429 and r.headers["retry-after"] == "1" and "wait" in r.text
+    site.clock.advance(seconds=2)
+    assert c.post("/login", data={"username": "tess.tech", "password": PASSWORD}).status_code == 303
+
+
+def test_next_after_sign_in_is_only_a_local_path(site: Site) -> None:
+    make_person(site.engine, "tess.tech", "technician")
+    for target, expected in [("/account/password", "/account/password"), ("https://evil.example/", "/"),
+                             ("//evil.example", "/"), ("/\\evil", "/")]:
+        r = site.client().post("/login", data={"username": "tess.tech", "password": PASSWORD, "next": target})
+        assert r.headers["location"] == expected

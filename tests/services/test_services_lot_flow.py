@@ -104,6 +104,22 @@ def test_failed_lot_rejected_at_review(lab) -> None:  # type: ignore[no-untyped-
     assert actions[0] == "lot.received" and "lot.rejected" in actions and "signature.created" in actions
     csv_text = uc.export_lot(lab.engine, lot.code, fmt="csv")
     assert "Rita Review" in csv_text and "rejected" in csv_text and "advice to the quality unit" in csv_text
+    # and the same through the command line
+    import os
+    import subprocess
+    import sys
+    from pathlib import Path
+
+    root = Path(__file__).resolve().parents[2]
+    out = subprocess.run([sys.executable, "-m", "service", "audit", "export", "--lot", lot.code, "--format", "csv"],
+                         capture_output=True, text=True, cwd=root, timeout=120,
+                         env=dict(os.environ, BANDGATE_DATABASE_URL=lab.url, PYTHONPATH=str(root)))
+    assert out.returncode == 0, out.stderr
+    assert out.stdout.splitlines()[0] == "section,when_utc,who,what,detail" and lot.code in out.stdout
+    missing = subprocess.run([sys.executable, "-m", "service", "audit", "export", "--lot", "IN-1900-00001"],
+                             capture_output=True, text=True, cwd=root, timeout=120,
+                             env=dict(os.environ, BANDGATE_DATABASE_URL=lab.url, PYTHONPATH=str(root)))
+    assert missing.returncode == 2 and "no lot" in missing.stderr and "Traceback" not in missing.stderr
 
 
 def test_unreadable_upload_is_kept_with_the_reason(lab) -> None:  # type: ignore[no-untyped-def]
@@ -181,3 +197,32 @@ def test_spec_versions_draft_approved_superseded(lab) -> None:  # type: ignore[n
         uc.create_spec_draft(lab.engine, lab.qa, material_code="TOL-01", document={"material": "TOL-01"})
     lot = _lot(lab, containers=1)
     assert _measure(lab, lot, 1, "toluene").evaluation.spec_version == 2
+
+
+def _drop_triggers(engine, table: str) -> None:  # type: ignore[no-untyped-def]
+    from sqlalchemy import text
+
+    with engine.begin() as conn:
+        if engine.dialect.name == "sqlite":
+            conn.execute(text(f"DROP TRIGGER {table}_no_update"))
+        else:
+            conn.execute(text(f"ALTER TABLE {table} DISABLE TRIGGER USER"))
+
+
+def test_changed_file_or_evaluation_after_signing_is_caught(lab) -> None:  # type: ignore[no-untyped-def]
+    from sqlalchemy import text
+
+    lot = _lot(lab, containers=1)
+    m = _measure(lab, lot, 1, "toluene")
+    uc.dispose_lot(lab.engine, lab.qa, lot_code=lot.code, outcome="released")
+    assert uc.verify_audit(lab.engine).ok
+    _drop_triggers(lab.engine, "evaluations")
+    with lab.engine.begin() as conn:  # someone turns a result around behind the database's back
+        conn.execute(text("UPDATE evaluations SET verdict = 'fail' WHERE measurement_id = :m"), {"m": m.id})
+    report = uc.verify_audit(lab.engine)
+    assert not report.ok and f"lot {lot.id} has changed since it was signed" in report.first_problem
+    _drop_triggers(lab.engine, "stored_files")
+    with lab.engine.begin() as conn:
+        conn.execute(text("UPDATE stored_files SET content = :c WHERE sha256 = :s"), {"c": b"swapped", "s": m.sha256})
+    problems = uc.verify_audit(lab.engine).problems
+    assert any("no longer match the SHA-256" in p for p in problems)
