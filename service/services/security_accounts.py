@@ -123,7 +123,7 @@ def create_user(engine: Engine, *, username: str, printed_name: str, roles: list
                            fields=[FieldProblem("username", "taken")])
         uid = repo.insert_user(uow.session, username=name, printed_name=printed, roles=role_names,
                                password_hash=pw_hash, must_change_password=must_change_password, now=now)
-        append_event(uow.session, actor=actor, action="user-created", record_type="user", record_id=uid,
+        append_event(uow.session, actor=actor, action="user.created", record_type="user", record_id=uid,
                      new={"username": name, "printed_name": printed, "roles": list(role_names),
                           "active": True, "must_change_password": must_change_password}, at=now)
         user = repo.user_by_id(uow.session, uid)
@@ -155,7 +155,7 @@ def set_active(engine: Engine, *, username: str, active: bool, reason: str, admi
             return _person(user, now)
         repo.update_user(uow.session, user.id, active=active, disabled_at=None if active else now)
         ended = 0 if active else repo.end_user_sessions(uow.session, user.id, now=now, reason="disabled")
-        append_event(uow.session, actor=actor, action="user-enabled" if active else "user-disabled",
+        append_event(uow.session, actor=actor, action="user.enabled" if active else "user.disabled",
                      record_type="user", record_id=user.id, old={"active": user.active},
                      new={"active": active, "sessions_ended": ended}, reason=reason.strip(), at=now)
         after = repo.user_by_id(uow.session, user.id)
@@ -184,7 +184,7 @@ def reset_password(engine: Engine, *, username: str, reason: str, new_password: 
         repo.update_user(uow.session, user.id, password_hash=hash_password(temporary), password_changed_at=now,
                          must_change_password=True, failed_attempts=0, last_failed_at=None, locked_until=None)
         ended = repo.end_user_sessions(uow.session, user.id, now=now, reason="password-reset")
-        append_event(uow.session, actor=actor, action="password-reset", record_type="user", record_id=user.id,
+        append_event(uow.session, actor=actor, action="user.password-reset", record_type="user", record_id=user.id,
                      old={"locked_until": user.locked_until.isoformat() if user.locked_until else None},
                      new={"must_change_password": True, "sessions_ended": ended}, reason=reason.strip(), at=now)
         after = repo.user_by_id(uow.session, user.id)
@@ -209,7 +209,7 @@ def set_roles(engine: Engine, *, username: str, roles: list[str] | tuple[str, ..
             return _person(user, now)
         repo.update_user(uow.session, user.id, roles=names)
         ended = repo.end_user_sessions(uow.session, user.id, now=now, reason="roles-changed")
-        append_event(uow.session, actor=actor, action="roles-changed", record_type="user", record_id=user.id,
+        append_event(uow.session, actor=actor, action="user.roles-changed", record_type="user", record_id=user.id,
                      old={"roles": list(user.roles)}, new={"roles": list(names), "sessions_ended": ended},
                      reason=reason.strip(), at=now)
         after = repo.user_by_id(uow.session, user.id)
@@ -227,7 +227,7 @@ def unlock(engine: Engine, *, username: str, reason: str, admin: Actor | None = 
     with UnitOfWork(engine) as uow:
         user = _load(uow, username)
         repo.update_user(uow.session, user.id, failed_attempts=0, last_failed_at=None, locked_until=None)
-        append_event(uow.session, actor=actor, action="account-unlocked", record_type="user", record_id=user.id,
+        append_event(uow.session, actor=actor, action="user.unlocked", record_type="user", record_id=user.id,
                      old={"failed_attempts": user.failed_attempts,
                           "locked_until": user.locked_until.isoformat() if user.locked_until else None},
                      new={"failed_attempts": 0, "locked_until": None}, reason=reason.strip(), at=now)
@@ -257,7 +257,7 @@ def change_own_password(engine: Engine, *, actor: Actor, current_password: str, 
                          must_change_password=False)
         ended = repo.end_user_sessions(uow.session, user.id, now=now, reason="password-changed",
                                        except_id=keep_session_id)
-        append_event(uow.session, actor=actor, action="password-changed", record_type="user", record_id=user.id,
+        append_event(uow.session, actor=actor, action="user.password-changed", record_type="user", record_id=user.id,
                      new={"must_change_password": False, "other_sessions_ended": ended}, at=now)
         uow.commit()
 

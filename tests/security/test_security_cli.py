@@ -56,7 +56,7 @@ def test_first_administrator_and_people_from_the_command_line(cli, db_url: str, 
         actions = [r[0] for r in conn.execute(text("SELECT action FROM audit_events ORDER BY seq"))]
     engine.dispose()
     assert names == ["ada.admin", "tess.tech"]
-    assert actions == ["user-created", "user-created", "user-disabled", "password-reset", "user-enabled"]
+    assert actions == ["user.created", "user.created", "user.disabled", "user.password-reset", "user.enabled"]
 
 
 def test_token_create_prints_the_token_alone_on_its_last_line_once(cli, db_url: str, capsys) -> None:  # type: ignore[no-untyped-def]
