@@ -118,7 +118,7 @@ MAGNESIUM_STEARATE = DemoMaterial(
     required_bands=(
         _req("CH2 asymmetric stretch", 2935, 2900, 0.50),
         _req("CH2 symmetric stretch", 2870, 2835, 0.30),
-        _req("carboxylate asymmetric stretch", 1600, 1530, 0.30),
+        _req("carboxylate asymmetric stretch", 1600, 1530, 0.20),
     ),
     forbidden_bands=(_forbid("carboxylic acid C=O (free fatty acid)", 1720, 1690, 0.10),),
 )
@@ -155,7 +155,7 @@ ISOPROPANOL = DemoMaterial(
     required_bands=(
         _req(OH_BONDED, 3550, 3200, 0.30, min_width=100),
         _req(CH_ALKANE, 3000, 2850, 0.30),
-        _req("C-O stretch, secondary alcohol", 1170, 1110, 0.30),
+        _req("C-O stretch, secondary alcohol", 1170, 1110, 0.15),
     ),
     forbidden_bands=(_forbid("carbonyl (acetone or other oxidation product)", 1760, 1690, 0.05),),
 )

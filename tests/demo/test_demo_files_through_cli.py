@@ -87,6 +87,7 @@ def test_polystyrene_films_pass_and_fail_the_instrument_check(capsys: pytest.Cap
     assert code == exit_code, err
 
 
+@pytest.mark.slow
 def test_evaluate_as_a_separate_process_exits_with_the_verdict_code() -> None:
     env = dict(os.environ, PYTHONPATH=str(ROOT))
     r = subprocess.run([sys.executable, "-m", "service", "evaluate",

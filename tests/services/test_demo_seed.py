@@ -243,6 +243,7 @@ def test_the_demo_seeds_on_postgresql_too(postgres_url: str) -> None:
         engine.dispose()
 
 
+@pytest.mark.slow
 def test_bandgate_demo_refuses_a_real_database_before_migrating_it(tmp_path: Path) -> None:
     # A database of another application (or an older installation): tables with rows, no demo marker.
     path = tmp_path / "real.db"
