@@ -1,0 +1,108 @@
+"""The seam to the spectral core: reading uploads, parsing specifications, evaluating, checking instruments.
+
+The use cases call these functions rather than importing the core directly, so the records layer
+depends on the core's public API only, in one place. Parsed references and specifications are
+cached by content digest (they are immutable once approved).
+"""
+
+from __future__ import annotations
+
+import json
+from collections import OrderedDict
+from collections.abc import Callable
+from typing import Any
+
+from service.errors import ServiceUnavailable
+from service.release.digests import sha256_hex
+
+_CACHE_SIZE = 64
+_spectra: "OrderedDict[str, Any]" = OrderedDict()
+_specs: "OrderedDict[str, Any]" = OrderedDict()
+
+
+def _missing(what: str, exc: ImportError) -> ServiceUnavailable:
+    return ServiceUnavailable(f"{what} is not available in this installation ({exc}); reinstall Bandgate")
+
+
+def read_spectrum(data: bytes, *, file_name: str = "") -> Any:
+    """Read an uploaded file into a Spectrum; raises the reader's UnusableInput with its message."""
+    try:
+        from service.spectra.readers import read_spectrum as _read
+    except ImportError as exc:  # pragma: no cover - only in a broken installation
+        raise _missing("the spectrum reader", exc) from None
+    return _read(data, file_name=file_name)
+
+
+def read_cached(data: bytes, *, file_name: str = "") -> Any:
+    """read_spectrum for stored, immutable files (references), cached by SHA-256."""
+    key = sha256_hex(data)
+    if key in _spectra:
+        _spectra.move_to_end(key)
+        return _spectra[key]
+    spectrum = read_spectrum(data, file_name=file_name)
+    _spectra[key] = spectrum
+    if len(_spectra) > _CACHE_SIZE:
+        _spectra.popitem(last=False)
+    return spectrum
+
+
+def parse_specification(document: dict[str, Any]) -> Any:
+    """Validate a specification document; raises the evaluator's InvalidInput naming every field."""
+    try:
+        from service.evaluation import parse_specification as _parse
+    except ImportError as exc:  # pragma: no cover
+        raise _missing("the evaluator", exc) from None
+    key = sha256_hex(json.dumps(document, sort_keys=True, default=str))
+    if key in _specs:
+        return _specs[key]
+    spec = _parse(document)
+    _specs[key] = spec
+    if len(_specs) > _CACHE_SIZE:
+        _specs.popitem(last=False)
+    return spec
+
+
+def evaluate(*, sample: Any, spec: Any, reference: Any, library: Any = None,
+             reference_preparation: str | None = None) -> Any:
+    """Run the evaluator; returns an object with ``.verdict`` and ``.as_dict()``."""
+    try:
+        from service.evaluation import evaluate as _evaluate
+    except ImportError as exc:  # pragma: no cover
+        raise _missing("the evaluator", exc) from None
+    return _evaluate(sample, spec, reference, library, reference_preparation=reference_preparation)
+
+
+_libraries: "OrderedDict[tuple[Any, ...], Any]" = OrderedDict()
+
+
+def reference_spectrum(sha256: str, load: Callable[[], tuple[bytes, str]]) -> Any:
+    """A stored reference read once and cached by its SHA-256; ``load`` gives (bytes, file name) on a miss."""
+    if sha256 in _spectra:
+        _spectra.move_to_end(sha256)
+        return _spectra[sha256]
+    data, name = load()
+    return read_cached(data, file_name=name)
+
+
+def library_for(entries: list[tuple[int, str, str]], load: Callable[[int], tuple[bytes, str]]) -> Any:
+    """The mix-up library of approved references, cached by their (id, material code, sha256).
+
+    ``load(reference_id)`` gives (bytes, file name) for a reference not yet cached; an empty list
+    gives None (no library search).
+    """
+    if not entries:
+        return None
+    key = tuple(entries)
+    if key in _libraries:
+        _libraries.move_to_end(key)
+        return _libraries[key]
+    try:
+        from service.evaluation import ReferenceLibrary
+    except ImportError as exc:  # pragma: no cover
+        raise _missing("the reference library", exc) from None
+    lib = ReferenceLibrary.build([(code, reference_spectrum(sha, lambda rid=rid: load(rid)))
+                                  for rid, code, sha in entries])
+    _libraries[key] = lib
+    if len(_libraries) > 8:
+        _libraries.popitem(last=False)
+    return lib

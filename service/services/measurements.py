@@ -1,0 +1,270 @@
+"""Record a measurement: keep the original bytes, evaluate against the approved spec, move the lot on.
+
+Every upload that names an existing lot, container and instrument is kept with its SHA-256,
+size and original file name (metadata only), whatever becomes of it:
+
+* ``accepted``: read and evaluated; the full Evaluation JSON, the spec version, the reference and
+  the software version are stored with it;
+* ``unreadable``: the reader refused the file; the reason is its message;
+* ``refused``: the upload was not allowed (lot closed, container not in the plan or already
+  holding a result, instrument not qualified, no approved spec or reference).
+
+The record is committed first; then an unreadable upload raises :class:`UploadUnreadable`
+(UnusableInput) and a refused one :class:`MeasurementRefused` (Conflict), both carrying the
+stored measurement, so callers answer with an error and the evidence is still kept.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Any
+
+from sqlalchemy.engine import Engine
+from sqlmodel import Session
+
+from service import __version__
+from service.errors import BandgateError, Conflict, FieldProblem, InvalidInput, NotFound, UnusableInput
+from service.release.actor import Actor
+from service.release.digests import canonical_json, sha256_hex
+from service.release.lot_states import ContainerOutcome, LotState, LotStep, next_state, outcome_step
+from service.store import repositories as repo
+from service.store.tables import Evaluation, Instrument, Lot, LotContainer, Measurement, utc_now
+from service.store.unit_of_work import UnitOfWork
+from service.services import _shared as sh
+from service.services import evaluator
+from service.services.instruments import DEFAULT_CHECK_DAYS, qualification
+from service.services.lots import evidence, measurement_view
+from service.services.views import MeasurementView
+
+MAX_FILE_NAME = 255
+
+
+class UploadUnreadable(UnusableInput):
+    """The file was kept as an unreadable measurement; the message is the reader's."""
+
+    code = "unreadable-spectrum"
+    title = "The uploaded spectrum cannot be read"
+
+    def __init__(self, message: str, *, measurement: MeasurementView) -> None:
+        super().__init__(message)
+        self.measurement = measurement
+
+
+class MeasurementRefused(Conflict):
+    """The file was kept as a refused measurement; the message says why and what to do."""
+
+    code = "measurement-refused"
+    title = "Measurement not accepted"
+
+    def __init__(self, message: str, *, measurement: MeasurementView) -> None:
+        super().__init__(message)
+        self.measurement = measurement
+
+
+def set_state(session: Session, actor: Actor, lot: Lot, step: LotStep, *, reason: str = "") -> None:
+    """Take one step of the lot state machine, with its audit event."""
+    old = lot.state
+    lot.state = next_state(LotState(old), step).value
+    lot.state_changed_at = utc_now()
+    session.add(lot)
+    sh.audit(session, actor, "lot.state_changed", "lot", lot.id, old={"state": old},
+             new={"state": lot.state, "step": step.value}, reason=reason or step.value.replace("_", " "))
+
+
+def settle_lot(session: Session, actor: Actor, lot: Lot) -> None:
+    """Move a lot in testing on once every sampled container has a result."""
+    if lot.state != LotState.testing.value:
+        return
+    session.flush()
+    step = outcome_step(evidence(session, lot, with_documents=False).results)
+    if step is not None:
+        set_state(session, actor, lot, step)
+
+
+def _refusal(session: Session, lot: Lot, container: LotContainer, inst_ok: tuple[bool, str]) -> str | None:
+    if not LotState(lot.state).accepts_measurements:
+        return (f"lot {lot.code} is '{LotState(lot.state).label}' and takes no more measurements"
+                + ("; a reviewer must first invalidate the failing measurement" if lot.state == "awaiting_review" else ""))
+    if not container.selected:
+        return (f"container {container.number} is not in the sampling plan of lot {lot.code}; "
+                "measure one of the containers the plan selected")
+    ev = evidence(session, lot, with_documents=False)
+    outcome = next((c.outcome for c in ev.containers if c.number == container.number), "untested")
+    if outcome != ContainerOutcome.untested.value:
+        return (f"container {container.number} already has a result ({outcome}); a retest needs a reviewer to "
+                "invalidate that measurement with an assignable cause first")
+    if not inst_ok[0]:
+        return inst_ok[1]
+    return None
+
+
+@dataclass(frozen=True)
+class _Basis:
+    """What an evaluation rests on: the approved spec and reference, read before the write lock."""
+
+    spec_id: int | None
+    spec_version: int | None
+    spec_doc: dict | None
+    ref_id: int | None
+    ref_preparation: str | None
+    reference: Any
+    library: Any
+    missing: str | None
+
+
+def _basis(session: Session, lot: Lot, *, load: bool) -> _Basis:
+    spec_row = repo.approved_spec(session, lot.material_id)
+    if spec_row is None:
+        return _Basis(None, None, None, None, None, None, None,
+                      "the material has no approved specification; the quality unit must approve one first")
+    doc = sh.loads(spec_row.document)
+    prep = doc.get("preparation")
+    prep = prep if isinstance(prep, str) else (prep or {}).get("method")
+    ref_row = repo.approved_reference(session, lot.material_id, prep) or repo.approved_reference(
+        session, lot.material_id, None)
+    if ref_row is None:
+        return _Basis(spec_row.id, spec_row.version, doc, None, None, None, None,
+                      "the material has no approved reference spectrum; the quality unit must approve one first")
+    if not load:
+        return _Basis(spec_row.id, spec_row.version, doc, ref_row.id, ref_row.preparation, None, None, None)
+
+    def load_ref(ref_id: int) -> tuple[bytes, str]:
+        r = repo.reference_by_id(session, ref_id)
+        f = repo.file_by_id(session, r.file_id) if r else None
+        return (bytes(f.content) if f else b""), (r.file_name if r else "")
+
+    codes = {m.id: m.code for m in repo.list_materials(session)}
+    entries = [(r.id or 0, codes.get(r.material_id, "?"), r.sha256) for r in repo.references(session, None, "approved")]
+    try:
+        reference = evaluator.reference_spectrum(ref_row.sha256, lambda: load_ref(ref_row.id or 0))
+        library = evaluator.library_for(entries, load_ref)
+    except BandgateError as exc:
+        return _Basis(spec_row.id, spec_row.version, doc, ref_row.id, ref_row.preparation, None, None,
+                      f"the approved reference cannot be used: {exc.message}")
+    return _Basis(spec_row.id, spec_row.version, doc, ref_row.id, ref_row.preparation, reference, library, None)
+
+
+def _evaluate(data: bytes, file_name: str, basis: _Basis) -> tuple[str, str, Any]:
+    """(status, reason, evaluation) -- runs outside the write lock."""
+    try:
+        sample = evaluator.read_spectrum(data, file_name=file_name)
+    except UnusableInput as exc:
+        return "unreadable", exc.message, None
+    try:
+        spec = evaluator.parse_specification(basis.spec_doc)  # type: ignore[arg-type]
+        result = evaluator.evaluate(sample=sample, spec=spec, reference=basis.reference, library=basis.library,
+                                    reference_preparation=basis.ref_preparation)
+    except BandgateError as exc:
+        return "unreadable", f"the spectrum could not be evaluated: {exc.message}", None
+    return "accepted", "", result
+
+
+def record_measurement(engine: Engine, actor: Actor, *, lot_code: str, container: int, instrument_code: str,
+                       data: bytes, file_name: str = "", check_days: float = DEFAULT_CHECK_DAYS) -> MeasurementView:
+    """Keep an uploaded spectrum, evaluate it and move the lot on; see the module docstring.
+
+    The file is read and evaluated before the write lock is taken (the slow part runs in
+    parallel); the write transaction then re-checks everything and stores the record, the
+    evaluation and the audit events together.
+    """
+    if not isinstance(data, (bytes, bytearray)):
+        raise InvalidInput("the spectrum file must be bytes", fields=[FieldProblem("file", "upload a file")])
+    if not isinstance(container, int) or isinstance(container, bool):
+        raise InvalidInput("the container must be a number", fields=[FieldProblem("container", "give its number")])
+    data = bytes(data)
+    file_name = (file_name or "").replace("\x00", "")[:MAX_FILE_NAME]
+
+    def resolve(s: Session) -> tuple[Lot, LotContainer, Instrument, str | None]:
+        lot = sh.lot(s, lot_code)
+        cont = repo.container_by_number(s, lot.id, container)  # type: ignore[arg-type]
+        if cont is None:
+            raise NotFound(f"lot {lot.code} has containers 1 to {lot.containers_received}; there is no "
+                           f"container {container}", fields=[FieldProblem("container", "pick a listed container")])
+        inst = sh.instrument(s, instrument_code)
+        ok, _last, _until, text = qualification(s, inst, check_days=check_days)
+        return lot, cont, inst, _refusal(s, lot, cont, (ok, text))
+
+    with UnitOfWork(engine, write=False) as uow:
+        lot, _c, _i, refusal = resolve(uow.session)
+        basis = _basis(uow.session, lot, load=True)
+    status, reason, evaluation = "refused", refusal or basis.missing or "", None
+    if refusal is None and basis.missing is None:
+        status, reason, evaluation = _evaluate(data, file_name, basis)
+
+    with UnitOfWork(engine) as uow:
+        s = uow.session
+        lot, cont, inst, refusal = resolve(s)
+        now_basis = _basis(s, lot, load=False)
+        if refusal is None and now_basis.missing is not None:
+            refusal = now_basis.missing
+        elif refusal is None and (now_basis.spec_id, now_basis.ref_id) != (basis.spec_id, basis.ref_id):
+            refusal = "the approved specification or reference changed during the upload; upload the file again"
+        if refusal is not None:
+            status, reason, evaluation = "refused", refusal, None
+        stored = repo.store_file(s, data)
+        retest_of = _retest_of(s, lot, cont)
+        m = Measurement(lot_id=lot.id, container_id=cont.id, instrument_id=inst.id, operator_id=actor.user_id,
+                        file_id=stored.id, sha256=stored.sha256, size=stored.size, file_name=file_name,
+                        received_at=utc_now(), status=status, reason=reason, retest_of_id=retest_of)
+        repo.add(s, m)
+        sh.audit(s, actor, "measurement.recorded", "measurement", m.id, new={
+            "lot": lot.code, "container": cont.number, "instrument": inst.code, "sha256": m.sha256, "size": m.size,
+            "file_name": m.file_name, "status": status, "reason": reason, "retest_of_id": retest_of})
+        ev_row = None
+        if evaluation is not None:
+            document = canonical_json(evaluation.as_dict())
+            ev_row = Evaluation(measurement_id=m.id, verdict=str(evaluation.verdict), document=document,
+                                spec_version_id=basis.spec_id, reference_id=basis.ref_id,
+                                software_version=__version__, created_at=utc_now())
+            repo.add(s, ev_row)
+            sh.audit(s, actor, "evaluation.recorded", "evaluation", ev_row.id, new={
+                "measurement_id": m.id, "verdict": ev_row.verdict, "spec_version_id": basis.spec_id,
+                "spec_version": basis.spec_version, "reference_id": basis.ref_id,
+                "software_version": __version__, "document_sha256": sha256_hex(document)})
+            if not cont.sampled:
+                cont.sampled, cont.sampled_at = True, utc_now()
+                s.add(cont)
+                sh.audit(s, actor, "container.sampled", "lot_container", cont.id, old={"sampled": False},
+                         new={"lot": lot.code, "container": cont.number, "sampled": True})
+            if lot.state == LotState.quarantine.value:
+                set_state(s, actor, lot, LotStep.first_measurement)
+            settle_lot(s, actor, lot)
+        uow.commit()
+        view = measurement_view(m, lot_code=lot.code, container=cont.number, instrument=inst.code,
+                                operator=actor.printed_name, evaluation=ev_row,
+                                spec_version=basis.spec_version if ev_row else None, invalidation_cause=None)
+    if status == "unreadable":
+        raise UploadUnreadable(reason, measurement=view)
+    if status == "refused":
+        raise MeasurementRefused(reason, measurement=view)
+    return view
+
+
+def _retest_of(session: Session, lot: Lot, cont: LotContainer) -> int | None:
+    """The invalidated measurement of this container that a new upload retests, if any."""
+    ms = [m for m in repo.measurements_for_lot(session, lot.id) if m.container_id == cont.id]  # type: ignore[arg-type]
+    invs = repo.invalidations_for(session, [m.id for m in ms if m.id is not None])
+    retested = {m.retest_of_id for m in ms if m.retest_of_id is not None and m.status == "accepted"}
+    open_ = [mid for mid in invs if mid not in retested]
+    return max(open_) if open_ else None
+
+
+def get_measurement(engine: Engine, measurement_id: int) -> MeasurementView:
+    with UnitOfWork(engine, write=False) as uow:
+        m = repo.measurement_by_id(uow.session, measurement_id)
+        if m is None:
+            raise NotFound(f"no measurement with id {measurement_id}")
+        lot = repo.lot_by_id(uow.session, m.lot_id)
+        for v in evidence(uow.session, lot).measurements:  # type: ignore[arg-type]
+            if v.id == measurement_id:
+                return v
+        raise NotFound(f"no measurement with id {measurement_id}")  # pragma: no cover
+
+
+def measurement_file(engine: Engine, measurement_id: int) -> tuple[MeasurementView, bytes]:
+    """The measurement and its original bytes, exactly as received."""
+    view = get_measurement(engine, measurement_id)
+    with UnitOfWork(engine, write=False) as uow:
+        m = repo.measurement_by_id(uow.session, measurement_id)
+        f = repo.file_by_id(uow.session, m.file_id)  # type: ignore[union-attr]
+        return view, bytes(f.content)  # type: ignore[union-attr]

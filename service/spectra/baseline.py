@@ -1,0 +1,146 @@
+"""Baseline correction: asymmetric least squares, arPLS (both via pybaselines) and rubber band.
+
+Each function takes the values (and, for the rubber band, the wavenumbers), leaves them untouched
+and returns a :class:`BaselineResult` with the estimated baseline, the corrected values, the
+method's parameters and whether the iteration converged, so the step can be recorded and re-run.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+from numpy.typing import NDArray
+from pybaselines import Baseline
+from scipy.spatial import ConvexHull, QhullError
+
+from service.errors import InvalidInput
+
+
+@dataclass(frozen=True)
+class BaselineResult:
+    """The baseline, the corrected values (values − baseline) and the evidence of how they were found."""
+
+    baseline: NDArray[np.float64]
+    corrected: NDArray[np.float64]
+    method: str
+    params: dict[str, Any]
+    iterations: int
+    converged: bool
+
+    def as_dict(self) -> dict[str, Any]:
+        return {"method": self.method, "params": dict(self.params), "iterations": self.iterations,
+                "converged": self.converged}
+
+
+def _values(y: Any) -> NDArray[np.float64]:
+    ya = np.asarray(y, dtype=np.float64)
+    if ya.ndim != 1 or ya.size < 4 or not np.all(np.isfinite(ya)):
+        raise InvalidInput(f"baseline correction needs a 1-D series of at least 4 finite values; got shape {ya.shape}")
+    return ya
+
+
+def _result(ya: NDArray[np.float64], base: Any, method: str, params: dict[str, Any], info: dict[str, Any],
+            tol: float) -> BaselineResult:
+    # pybaselines records one relative change per weighting pass (up to max_iter + 1 passes);
+    # converged means the last change fell below tol.
+    baseline = np.asarray(base, dtype=np.float64)
+    history = np.asarray(info.get("tol_history", ()), dtype=np.float64)
+    iterations = int(history.size)
+    converged = bool(iterations and history[-1] < tol)
+    return BaselineResult(baseline=baseline, corrected=ya - baseline, method=method, params=params,
+                          iterations=iterations, converged=converged)
+
+
+def baseline_asls(y: Any, *, lam: float = 1e5, p: float = 0.01, max_iter: int = 50,
+                  tol: float = 1e-3, diff_order: int = 2) -> BaselineResult:
+    """Asymmetric least squares baseline (Eilers & Boelens 2005), via ``pybaselines``.
+
+    A smooth curve (second-difference penalty ``lam``) is fitted with weight ``p`` for points
+    above it and ``1 - p`` below, so it follows the lower envelope under the bands. Uses
+    ``pentapy`` as the banded solver when installed (~1.5 ms for 3,600 points).
+
+    References
+    ----------
+    P. H. C. Eilers, H. F. M. Boelens, "Baseline correction with asymmetric least squares
+    smoothing", Leiden University Medical Centre report (2005).
+    """
+    ya = _values(y)
+    if not (0 < p < 1) or lam <= 0 or max_iter < 1:
+        raise InvalidInput(f"asymmetric least squares needs 0 < p < 1, lam > 0, max_iter >= 1 (got p={p}, lam={lam})")
+    base, info = Baseline().asls(ya, lam=lam, p=p, max_iter=max_iter, tol=tol, diff_order=diff_order)
+    params = {"lam": lam, "p": p, "max_iter": max_iter, "tol": tol, "diff_order": diff_order}
+    return _result(ya, base, "asymmetric least squares", params, info, tol)
+
+
+def baseline_arpls(y: Any, *, lam: float = 1e5, max_iter: int = 50, tol: float = 1e-3,
+                   diff_order: int = 2) -> BaselineResult:
+    """Asymmetrically reweighted penalized least squares (Baek et al. 2015), via ``pybaselines``.
+
+    Weights come from a logistic function of the residuals, so no ``p`` is needed; it can take
+    many iterations (11-28 ms) and may not converge: ``max_iter`` bounds it and ``converged``
+    says whether it did.
+
+    References
+    ----------
+    S.-J. Baek, A. Park, Y.-J. Ahn, J. Choo, "Baseline correction using asymmetrically
+    reweighted penalized least squares smoothing", Analyst 140 (2015) 250-257.
+    """
+    ya = _values(y)
+    if lam <= 0 or max_iter < 1:
+        raise InvalidInput(f"arPLS needs lam > 0 and max_iter >= 1 (got lam={lam}, max_iter={max_iter})")
+    base, info = Baseline().arpls(ya, lam=lam, max_iter=max_iter, tol=tol, diff_order=diff_order)
+    params = {"lam": lam, "max_iter": max_iter, "tol": tol, "diff_order": diff_order}
+    return _result(ya, base, "arPLS", params, info, tol)
+
+
+def baseline_rubberband(x: Any, y: Any) -> BaselineResult:
+    """Rubber-band baseline: the lower convex hull of the points, interpolated linearly.
+
+    A band stretched under the spectrum from end to end (common practice for absorbance
+    spectra with a convex, scattering baseline). Points lying above the chord of their current
+    neighbours can never be on the lower hull; they are removed in vectorised passes, and the
+    survivors go to ``scipy.spatial.ConvexHull`` (qhull), whose vertices on or below the chord
+    from the first to the last point form the lower hull.
+    """
+    xa = np.asarray(x, dtype=np.float64)
+    ya = _values(y)
+    if xa.shape != ya.shape or np.any(np.diff(xa) <= 0):
+        raise InvalidInput("rubber-band baseline needs an ascending axis with one value per point")
+    keep = _lower_hull(xa, ya)
+    base = np.interp(xa, xa[keep], ya[keep])
+    return BaselineResult(baseline=base, corrected=ya - base, method="rubber band", params={},
+                          iterations=1, converged=True)
+
+
+def _lower_hull(x: NDArray[np.float64], y: NDArray[np.float64]) -> NDArray[np.intp]:
+    """Indices of the lower convex hull of (x, y), x strictly ascending, in ascending order."""
+    idx = np.arange(x.size)
+    for _ in range(32):
+        if idx.size <= 2:
+            break
+        xl, xm, xr = x[idx[:-2]], x[idx[1:-1]], x[idx[2:]]
+        yl, ym, yr = y[idx[:-2]], y[idx[1:-1]], y[idx[2:]]
+        # cross product >= 0: the middle point is on or below the chord (convex turn) -> candidate
+        keep_mid = (xm - xl) * (yr - yl) - (ym - yl) * (xr - xl) >= 0
+        before = idx.size
+        idx = np.concatenate([idx[:1], idx[1:-1][keep_mid], idx[-1:]])
+        if idx.size > 0.8 * before:  # few removed: the chain below finishes faster
+            break
+    if idx.size <= 3:
+        return idx
+    # finish with qhull on the survivors (y scaled to the x span so the hull is well conditioned)
+    xs, ys = x[idx], y[idx]
+    span = float(ys.max() - ys.min())
+    if span == 0.0:
+        return idx[[0, -1]]
+    ys = (ys - ys.min()) * (float(xs[-1] - xs[0]) / span)
+    try:
+        v = np.unique(ConvexHull(np.column_stack([xs, ys])).vertices)
+    except QhullError:  # all points on one line
+        return idx[[0, -1]]
+    chord = ys[0] + (ys[-1] - ys[0]) * (xs[v] - xs[0]) / (xs[-1] - xs[0])
+    lower = v[ys[v] <= chord + 1e-9 * float(xs[-1] - xs[0])]
+    hull = np.union1d(lower, [0, idx.size - 1])
+    return idx[hull]

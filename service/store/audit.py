@@ -1,0 +1,154 @@
+"""The audit chain: hash-chained events appended in the same transaction as the change they record.
+
+Each event stores the previous event's hash and its own hash over a canonical JSON of its fields
+(``service.release.digests.event_hash``). ``seq`` runs 1, 2, 3, ... without gaps, and both
+``prev_hash`` and ``hash`` are unique, so the database itself refuses a fork. Appends happen only
+inside a writing UnitOfWork, which holds the write lock.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterator
+from dataclasses import dataclass
+from datetime import datetime, timezone
+from typing import Any
+
+from sqlmodel import Session, col, select
+
+from service.release.actor import Actor
+from service.release.digests import GENESIS_HASH, canonical_json, event_hash
+from service.store.tables import AuditEvent, utc_now
+
+SYSTEM_ACTOR = Actor(user_id=0, username="system", printed_name="Bandgate (system)")
+
+
+def event_fields(ev: AuditEvent) -> dict[str, Any]:
+    """The fields an event's hash covers, as they are stored."""
+    occurred = ev.occurred_at
+    if occurred.tzinfo is None:  # SQLite gives naive datetimes back; they were written in UTC
+        occurred = occurred.replace(tzinfo=timezone.utc)
+    return {
+        "seq": ev.seq,
+        "occurred_at": occurred.astimezone(timezone.utc).isoformat(timespec="microseconds"),
+        "user_id": ev.user_id,
+        "username": ev.username,
+        "action": ev.action,
+        "record_type": ev.record_type,
+        "record_id": ev.record_id,
+        "old_values": ev.old_values,
+        "new_values": ev.new_values,
+        "reason": ev.reason,
+    }
+
+
+def last_event(session: Session) -> AuditEvent | None:
+    return session.exec(select(AuditEvent).order_by(col(AuditEvent.seq).desc()).limit(1)).first()
+
+
+def append_event(
+    session: Session,
+    *,
+    actor: Actor,
+    action: str,
+    record_type: str,
+    record_id: int | str,
+    old: dict[str, Any] | None = None,
+    new: dict[str, Any] | None = None,
+    reason: str = "",
+    at: datetime | None = None,
+) -> AuditEvent:
+    """Append one event to the chain. Call only inside a writing UnitOfWork (it holds the lock)."""
+    prev = last_event(session)
+    ev = AuditEvent(
+        seq=(prev.seq + 1) if prev else 1,
+        occurred_at=(at or utc_now()).astimezone(timezone.utc),
+        user_id=actor.user_id or None,
+        username=actor.username,
+        action=action,
+        record_type=record_type,
+        record_id=str(record_id),
+        old_values=canonical_json(old or {}),
+        new_values=canonical_json(new or {}),
+        reason=reason,
+        prev_hash=prev.hash if prev else GENESIS_HASH,
+        hash="",
+    )
+    ev.hash = event_hash(prev_hash=ev.prev_hash, fields=event_fields(ev))
+    session.add(ev)
+    session.flush()
+    return ev
+
+
+@dataclass(frozen=True, kw_only=True)
+class ChainProblem:
+    seq: int
+    event_id: int | None
+    message: str
+
+    def __str__(self) -> str:
+        return f"audit event #{self.seq} (id {self.event_id}): {self.message}"
+
+
+def iter_events(session: Session, *, batch: int = 1000) -> Iterator[AuditEvent]:
+    last = 0
+    while True:
+        rows = session.exec(
+            select(AuditEvent).where(col(AuditEvent.seq) > last).order_by(col(AuditEvent.seq)).limit(batch)
+        ).all()
+        if not rows:
+            return
+        yield from rows
+        last = rows[-1].seq
+
+
+def check_chain(session: Session) -> tuple[int, list[ChainProblem]]:
+    """Recompute every link in order; return (events checked, problems in chain order)."""
+    problems: list[ChainProblem] = []
+    prev_hash = GENESIS_HASH
+    expected_seq = 1
+    count = 0
+    for ev in iter_events(session):
+        count += 1
+        if ev.seq != expected_seq:
+            problems.append(ChainProblem(seq=ev.seq, event_id=ev.id,
+                                         message=f"sequence jumps from {expected_seq - 1} to {ev.seq}: events are missing"))
+        if ev.prev_hash != prev_hash:
+            problems.append(ChainProblem(seq=ev.seq, event_id=ev.id,
+                                         message="previous-hash link does not match the event before it"))
+        recomputed = event_hash(prev_hash=ev.prev_hash, fields=event_fields(ev))
+        if recomputed != ev.hash:
+            problems.append(ChainProblem(seq=ev.seq, event_id=ev.id,
+                                         message=f"content changed after it was written ({ev.action} on "
+                                                 f"{ev.record_type} {ev.record_id}): stored hash does not match"))
+        prev_hash = ev.hash
+        expected_seq = ev.seq + 1
+    return count, problems
+
+
+def events_for(session: Session, *, record_type: str | None = None, record_id: str | None = None,
+               username: str | None = None, limit: int = 100, offset: int = 0) -> list[AuditEvent]:
+    q = select(AuditEvent)
+    if record_type:
+        q = q.where(AuditEvent.record_type == record_type)
+    if record_id is not None:
+        q = q.where(AuditEvent.record_id == str(record_id))
+    if username:
+        q = q.where(AuditEvent.username == username)
+    return list(session.exec(q.order_by(col(AuditEvent.seq)).offset(offset).limit(limit)).all())
+
+
+def events_for_records(session: Session, records: dict[str, list[int]]) -> list[AuditEvent]:
+    """Every event about any of the given records ({record_type: [ids]}), in chain order."""
+    from sqlalchemy import and_, or_
+
+    clauses = [and_(col(AuditEvent.record_type) == rt, col(AuditEvent.record_id).in_([str(i) for i in ids]))
+               for rt, ids in records.items() if ids]
+    if not clauses:
+        return []
+    return list(session.exec(select(AuditEvent).where(or_(*clauses)).order_by(col(AuditEvent.seq))).all())
+
+
+def count_events(session: Session) -> int:
+    from sqlalchemy import func
+
+    return int(session.exec(select(func.count()).select_from(AuditEvent)).one())

@@ -1,0 +1,96 @@
+"""Baselines: rubber band against a slow convex-hull oracle; ASLS/arPLS recover a known baseline."""
+
+from __future__ import annotations
+
+import numpy as np
+import pytest
+from numpy.testing import assert_allclose
+
+from service.errors import InvalidInput
+from service.spectra import baseline_arpls, baseline_asls, baseline_rubberband
+
+
+def _gauss(x, centre, fwhm, height):
+    return height * np.exp(-4 * np.log(2) * ((x - centre) / fwhm) ** 2)
+
+
+def _lower_hull_oracle(x, y):
+    """Andrew's monotone chain, point by point (slow, obvious)."""
+    hull: list[int] = []
+    for i in range(x.size):
+        while len(hull) >= 2:
+            a, b = hull[-2], hull[-1]
+            if (x[b] - x[a]) * (y[i] - y[a]) - (y[b] - y[a]) * (x[i] - x[a]) > 0:
+                break
+            hull.pop()
+        hull.append(i)
+    return np.interp(x, x[hull], y[hull])
+
+
+@pytest.mark.parametrize("seed", range(6))
+def test_rubberband_matches_monotone_chain_oracle(seed) -> None:
+    rng = np.random.default_rng(seed)
+    x = np.sort(rng.uniform(400, 4000, 800))
+    x = np.unique(x)
+    y = rng.normal(0, 0.01, x.size) + 1e-8 * (x - 2000) ** 2 + _gauss(x, 1700, 30, 1.0)
+    if seed % 2:
+        y = y + _gauss(x, 3000, 400, 0.5)
+    got = baseline_rubberband(x, y)
+    assert_allclose(got.baseline, _lower_hull_oracle(x, y), atol=1e-12)
+    assert (got.corrected >= -1e-12).all()
+
+
+def test_rubberband_under_a_convex_curve_is_the_curve() -> None:
+    x = np.linspace(400, 4000, 500)
+    y = 1e-7 * (x - 2200) ** 2
+    assert_allclose(baseline_rubberband(x, y).corrected, 0.0, atol=1e-12)
+
+
+def test_rubberband_of_a_straight_line() -> None:
+    x = np.linspace(400, 4000, 100)
+    res = baseline_rubberband(x, 0.5 + 1e-4 * x)
+    assert_allclose(res.corrected, 0.0, atol=1e-12)
+
+
+@pytest.mark.parametrize("method", ["asls", "arpls"])
+def test_whittaker_baselines_recover_a_sloping_line_under_bands(method) -> None:
+    x = np.arange(400.0, 4000.0, 1.0)
+    line = 0.05 + 2e-5 * (x - 400)
+    bands = _gauss(x, 1700, 20, 1.0) + _gauss(x, 2900, 40, 0.5) + _gauss(x, 1000, 15, 0.7)
+    y = line + bands + np.random.default_rng(3).normal(0, 0.001, x.size)
+    res = baseline_asls(y, lam=1e6, p=0.01) if method == "asls" else baseline_arpls(y, lam=1e6, max_iter=100)
+    far = (np.abs(x - 1700) > 80) & (np.abs(x - 2900) > 150) & (np.abs(x - 1000) > 60)
+    assert np.abs(res.baseline - line)[far].max() < 0.01
+    assert abs(res.corrected[1300] - 1.0) < 0.02  # band at 1700 keeps its height
+    assert res.iterations >= 1 and "lam" in res.params
+
+
+def test_arpls_reports_when_it_stops_at_max_iter() -> None:
+    x = np.arange(400.0, 4000.0, 1.0)
+    y = _gauss(x, 1700, 20, 1.0) + np.random.default_rng(0).normal(0, 0.01, x.size)
+    res = baseline_arpls(y, lam=1e5, max_iter=2, tol=1e-12)
+    assert res.iterations <= 3  # pybaselines makes up to max_iter + 1 weighting passes
+    assert res.converged is False
+    assert res.params["max_iter"] == 2
+
+
+def test_inputs_are_not_modified() -> None:
+    x = np.linspace(400, 4000, 300)
+    y = _gauss(x, 1700, 30, 1.0) + 1e-4 * x
+    x0, y0 = x.copy(), y.copy()
+    x.setflags(write=False)
+    y.setflags(write=False)
+    baseline_rubberband(x, y)
+    baseline_asls(y)
+    baseline_arpls(y, max_iter=5)
+    assert_allclose(x, x0, rtol=0, atol=0)
+    assert_allclose(y, y0, rtol=0, atol=0)
+
+
+def test_bad_input_is_refused() -> None:
+    with pytest.raises(InvalidInput):
+        baseline_asls(np.array([1.0, np.nan, 2.0, 3.0, 4.0]))
+    with pytest.raises(InvalidInput):
+        baseline_asls(np.ones(100), p=1.5)
+    with pytest.raises(InvalidInput):
+        baseline_rubberband(np.arange(10.0)[::-1], np.ones(10))
