@@ -13,7 +13,9 @@ from service import __version__
 from service.config import Settings, get_settings
 from service.store.engine import make_engine
 from service.store.migrations import current_revision, ensure_at_head, head_revision
+from service.web.auth import public
 from service.web.errors import install_error_handlers
+from service.web.guard import install_security
 
 TEMPLATES_DIR = Path(__file__).resolve().parents[2] / "templates"
 
@@ -43,13 +45,14 @@ def create_app(settings: Settings | None = None, *, check_migrations: bool = Tru
     templates.env.globals.update(version=__version__, caution=CAUTION)
     app.state.templates = templates
     install_error_handlers(app)
+    install_security(app)
 
-    @app.get("/healthz", tags=["operations"])
+    @app.get("/healthz", tags=["operations"], dependencies=[public()])
     def healthz() -> dict[str, str]:
         """Liveness: the process answers."""
         return {"status": "ok", "version": __version__}
 
-    @app.get("/readyz", tags=["operations"])
+    @app.get("/readyz", tags=["operations"], dependencies=[public()])
     def readyz(request: Request) -> JSONResponse:
         """Readiness: the database answers and its schema is at the head migration."""
         try:
