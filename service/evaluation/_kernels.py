@@ -1,120 +1,81 @@
-"""Small numerical kernels the evaluator runs on its fixed grid.
+"""Thin adapters from the evaluator's fixed grid to the spectral core (``service.spectra``).
 
-These work on arrays already on the evaluation grid and are written for the hot path (one
-evaluation in a few milliseconds): precomputed Savitzky–Golay coefficients, one pybaselines
-solver object per grid, scipy peak finding. General-purpose versions of the same methods live in
-``service.spectra``.
+The evaluator runs on one evenly spaced grid per method, so the objects that depend only on the
+grid (Savitzky–Golay coefficients) are built once and cached; the rest are the core's own
+functions. Only the noise estimate and the vector normalisations are local: they are a few
+lines each on the hot path.
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass
 from functools import lru_cache
 
 import numpy as np
 from numpy.typing import NDArray
-from scipy.ndimage import convolve1d
-from scipy.signal import find_peaks, peak_widths, savgol_coeffs
+
+from service.spectra import Band, SavitzkyGolay, baseline_asls, baseline_rubberband, find_bands
 
 F64 = NDArray[np.float64]
 
-
-@lru_cache(maxsize=32)
-def _asls_solver(n: int, step: float):  # type: ignore[no-untyped-def]
-    from pybaselines import Baseline
-
-    return Baseline(x_data=np.arange(n, dtype=np.float64) * step)
+__all__ = ["Band", "bands_in_window", "baseline", "centred_unit", "noise_rms", "savgol_derivative", "unit"]
 
 
-def baseline_asls(y: F64, *, step: float, lam: float, p: float) -> F64:
-    """Asymmetric least squares baseline (Eilers & Boelens 2005) via pybaselines, solver cached per grid."""
-    base, _ = _asls_solver(y.size, step).asls(y, lam=lam, p=p)
-    return np.asarray(base, dtype=np.float64)
-
-
-def baseline_rubberband(x: F64, y: F64) -> F64:
-    """Lower convex hull of the points (rubber band), interpolated on the axis."""
-    from scipy.spatial import ConvexHull
-
-    pts = np.column_stack([x, y])
-    try:
-        hull = ConvexHull(pts)
-    except Exception:  # degenerate (flat) input: the line through the ends
-        return np.interp(x, x[[0, -1]], y[[0, -1]])
-    v = hull.vertices  # counter-clockwise in 2-D: from the leftmost point the walk runs along the bottom
-    v = np.roll(v, -int(np.argmin(v)))
-    idx = v[: int(np.argmax(v)) + 1]
-    return np.interp(x, x[idx], y[idx])
+def baseline(x: F64, y: F64, *, method: str, lam: float, p: float) -> F64:
+    """The baseline under ``y``: asymmetric least squares (Eilers & Boelens 2005), rubber band, or none (zeros)."""
+    if method == "asls":
+        return baseline_asls(y, lam=lam, p=p).baseline
+    if method == "rubberband":
+        return baseline_rubberband(x, y).baseline
+    return np.zeros_like(y)
 
 
 @lru_cache(maxsize=32)
-def savgol_derivative_kernel(window: int, polyorder: int) -> F64:
-    """Savitzky–Golay (1964) first-derivative coefficients, ordered for ``convolve1d``."""
-    k = savgol_coeffs(window, polyorder, deriv=1, use="conv")
-    k.setflags(write=False)
-    return k
+def _savgol(window: int, polyorder: int) -> SavitzkyGolay:
+    return SavitzkyGolay(window=window, polyorder=polyorder, deriv=1)
 
 
 def savgol_derivative(y: F64, *, window: int, polyorder: int, step: float) -> F64:
-    """First derivative by Savitzky–Golay with precomputed coefficients (edges: nearest value)."""
-    return convolve1d(y, savgol_derivative_kernel(window, polyorder), mode="nearest") / step
-
-
-@dataclass(frozen=True, kw_only=True)
-class FoundBand:
-    position_cm1: float
-    height: float  # baseline-corrected absorbance at the maximum
-    prominence: float
-    relative_intensity: float
-    fwhm_cm1: float
-    position_method: str = "parabolic"
+    """First derivative by Savitzky–Golay (1964) with precomputed coefficients."""
+    return _savgol(window, polyorder).apply(y, step)
 
 
 def bands_in_window(x: F64, y: F64, *, lo: float, hi: float, reference_height: float,
-                    min_relative_prominence: float = 0.01) -> list[FoundBand]:
-    """Bands (local maxima) whose maximum lies inside ``lo``–``hi``, strongest first.
+                    min_relative_prominence: float = 0.01) -> list[Band]:
+    """Bands whose maximum lies inside ``lo``–``hi``, strongest first.
 
-    Position by a 3-point parabola through the maximum; width at half prominence (scipy
-    ``peak_widths``); relative intensity = baseline-corrected height / ``reference_height``.
+    The search runs over the window widened on both sides (by the window's width, at least
+    60 cm⁻¹), so a broad band filling a narrow window keeps its true local baseline; bands whose
+    maximum falls outside the window are then dropped.
     """
-    step = float(x[1] - x[0])
-    pad = int(round(max(60.0, (hi - lo)) / step))
-    i0 = max(int(np.searchsorted(x, lo)) - pad, 0)
-    i1 = min(int(np.searchsorted(x, hi, side="right")) + pad, x.size)
-    seg = y[i0:i1]
-    if seg.size < 3 or reference_height <= 0:
+    if reference_height <= 0:
         return []
-    peaks, props = find_peaks(seg, prominence=min_relative_prominence * reference_height)
-    if peaks.size == 0:
-        return []
-    widths = peak_widths(seg, peaks, rel_height=0.5, prominence_data=(
-        props["prominences"], props["left_bases"], props["right_bases"]))[0]
-    out = []
-    for k, p in enumerate(peaks):
-        pos = float(x[i0 + p])
-        if 0 < p < seg.size - 1:
-            a, b, c = seg[p - 1], seg[p], seg[p + 1]
-            den = a - 2 * b + c
-            if den < 0:
-                pos += 0.5 * (a - c) / den * step
-        if not (lo <= pos <= hi):
-            continue
-        height = float(seg[p])
-        out.append(FoundBand(position_cm1=pos, height=height, prominence=float(props["prominences"][k]),
-                             relative_intensity=height / reference_height, fwhm_cm1=float(widths[k] * step)))
-    out.sort(key=lambda b: -b.height)
-    return out
+    pad = max(60.0, hi - lo)
+    found = find_bands(x, y, window=(max(lo - pad, float(x[0])), min(hi + pad, float(x[-1]))),
+                       min_prominence=min_relative_prominence * reference_height, reference_height=reference_height)
+    inside = [b for b in found if lo <= b.position_cm1 <= hi]
+    inside.sort(key=lambda b: -b.height)
+    return inside
+
+
+def strongest_band_height(x: F64, y: F64, keep: NDArray[np.bool_], *, min_prominence: float) -> float:
+    """Height (above its local baseline) of the strongest band whose maximum lies where ``keep`` is true."""
+    found = find_bands(x, y, min_prominence=min_prominence)
+    heights = [b.height for b in found if keep[b.index]]
+    return max(heights) if heights else 0.0
 
 
 def noise_rms(x: F64, y: F64, *, lo: float = 2000.0, hi: float = 2200.0) -> float | None:
-    """RMS of the residual after a quadratic fit in a usually band-free region (common practice)."""
-    sel = (x >= lo) & (x <= hi)
-    if sel.sum() < 10:
+    """RMS noise in a usually band-free region (common practice), from second differences.
+
+    For white noise of standard deviation σ, ``y[i-1] − 2·y[i] + y[i+1]`` has variance 6σ²,
+    while a smooth baseline contributes almost nothing: no fit is needed.
+    """
+    i0, i1 = int(np.searchsorted(x, lo)), int(np.searchsorted(x, hi, side="right"))
+    if i1 - i0 < 10:
         return None
-    xs, ys = x[sel], y[sel]
-    coef = np.polyfit(xs - xs.mean(), ys, 2)
-    resid = ys - np.polyval(coef, xs - xs.mean())
-    return float(np.sqrt(np.mean(resid * resid)))
+    seg = y[i0:i1]
+    d2 = seg[:-2] - 2.0 * seg[1:-1] + seg[2:]
+    return float(np.sqrt(np.mean(d2 * d2) / 6.0))
 
 
 def centred_unit(v: F64) -> F64:

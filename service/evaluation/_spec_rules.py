@@ -52,7 +52,7 @@ class _Checker:
             return float(value)
         low = f"above {lo:g}" if lo_open else f"between {lo:g}"
         rng = f"{low} and at most {hi:g}" if lo_open else f"{low} and {hi:g}"
-        self.bad(path, f"must be {what} {rng}" + ("" if ok or value is None else f" (got {value!r})"))
+        self.bad(path, f"must be {what} {rng}" + ("" if value is None else f" (got {value!r})"))
         return None
 
     def wavenumber(self, value: Any, path: str) -> float | None:

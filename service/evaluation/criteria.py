@@ -23,20 +23,19 @@ EDGE_WARNING_CM1 = 2.0
 DETECTION_FLOOR = 0.01  # smallest prominence counted as a band, as a fraction of the strongest band
 
 
-def bands_outside_exclusions(p: Prepared, lo: float, hi: float) -> list[k.FoundBand]:
+def bands_outside_exclusions(p: Prepared, lo: float, hi: float) -> list[k.Band]:
     found = k.bands_in_window(p.method.grid, p.final, lo=lo, hi=hi, reference_height=p.reference_height,
                               min_relative_prominence=DETECTION_FLOOR)
     return [b for b in found if not any(a <= b.position_cm1 <= z for a, z in p.method.excluded)]
 
 
-def _band_details(b: k.FoundBand) -> dict[str, Any]:
-    strength = "strong" if b.relative_intensity >= 0.5 else "medium" if b.relative_intensity >= 0.2 else "weak"
+def _band_details(b: k.Band) -> dict[str, Any]:
     return {"position_cm1": round(b.position_cm1, 2), "relative_intensity": b.relative_intensity,
-            "height_absorbance": b.height, "width_cm1": round(b.fwhm_cm1, 1), "strength": strength,
-            "shape": "broad" if b.fwhm_cm1 >= 50.0 else "sharp", "position_method": b.position_method}
+            "height_absorbance": b.height, "width_cm1": round(b.fwhm_cm1, 1), "strength": b.strength,
+            "shape": b.shape, "position_method": b.position_method}
 
 
-def _checks(rule: BandRule, b: k.FoundBand) -> list[dict[str, Any]]:
+def _checks(rule: BandRule, b: k.Band) -> list[dict[str, Any]]:
     out = []
 
     def add(name: str, measured: float, limit: float, comparison: str, ok: bool) -> None:

@@ -34,10 +34,10 @@ def clear_reference_cache() -> None:
         _cache.clear()
 
 
-def _describe(s: Spectrum, digest: str) -> dict[str, Any]:
+def _describe(s: Spectrum, digest: str, spacing: float) -> dict[str, Any]:
     return {"sha256_file": s.meta.sha256 or None, "sha256_data": digest, "file_name": s.meta.file_name or None,
             "title": s.meta.title or None, "points": s.n_points, "range_cm1": [s.range_cm1[1], s.range_cm1[0]],
-            "spacing_cm1": s.spacing_cm1, "kind": s.kind.value, "notes": list(s.notes)}
+            "spacing_cm1": spacing, "kind": s.kind.value, "notes": list(s.notes)}
 
 
 def _prepared_reference(reference: Spectrum, digest: str, spec: Specification, method: Method
@@ -121,6 +121,7 @@ def evaluate(sample: Spectrum, spec: Specification, reference: Spectrum, library
         invalid.append(Notice(code="wrong-range", message=f"sample: {exc}; measure over the full range"))
 
     matches: tuple[Match, ...] | None = None
+    s_step, r_step = sample.spacing_cm1, reference.spacing_cm1
     if prepared is not None:
         q_criteria, q_warnings, q_invalid = judge_quality(absorbance, prepared, spec)
         criteria += q_criteria
@@ -141,17 +142,17 @@ def evaluate(sample: Spectrum, spec: Specification, reference: Spectrum, library
             if library is not None:
                 c, matches = _specificity(prepared, own, spec, library, method, top)
                 criteria.append(c)
-            if abs(sample.spacing_cm1 - reference.spacing_cm1) > 0.5 * max(sample.spacing_cm1, reference.spacing_cm1):
+            if abs(s_step - r_step) > 0.5 * max(s_step, r_step):
                 warnings.append(Notice(code="different-spacing", message=(
-                    f"sample point spacing {sample.spacing_cm1:.2f} cm⁻¹ differs from the reference's "
-                    f"{reference.spacing_cm1:.2f} cm⁻¹: compare spectra recorded under the same conditions")))
+                    f"sample point spacing {s_step:.2f} cm⁻¹ differs from the reference's "
+                    f"{r_step:.2f} cm⁻¹: compare spectra recorded under the same conditions")))
 
     verdict = "invalid" if invalid else ("fail" if any(not c.passed for c in criteria) else "pass")
     return Evaluation(
         verdict=verdict, criteria=tuple(criteria), warnings=tuple(warnings), invalid_reasons=tuple(invalid),
         specification={"material": spec.material, "name": spec.name, "version": spec.version,
                        "sha256": spec.digest(), "document": spec.as_document()},
-        sample=_describe(sample, sample_digest), reference=_describe(reference, ref_digest),
+        sample=_describe(sample, sample_digest, s_step), reference=_describe(reference, ref_digest, r_step),
         preprocessing=method.as_dict(), excluded_regions=tuple(r.as_dict() for r in spec.excluded_regions()),
         matches=matches, software={"name": "bandgate", "version": __version__},
     )

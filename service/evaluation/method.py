@@ -15,6 +15,7 @@ Euclidean distance).
 from __future__ import annotations
 
 import hashlib
+import weakref
 from dataclasses import dataclass
 from functools import cached_property
 from typing import Any
@@ -140,16 +141,25 @@ class Prepared:
     corrected: F64  # after baseline subtraction
     final: F64  # after the ATR correction (= corrected when there is none): bands and metric use this
     vector: F64  # the metric's vector over `method.compared`
-    reference_height: float  # strongest baseline-corrected absorbance outside exclusions
+    reference_height: float  # height of the strongest band (above its local baseline) outside exclusions
     data_sha256: str
 
 
+_digests: "weakref.WeakKeyDictionary[Spectrum, str]" = weakref.WeakKeyDictionary()
+
+
 def spectrum_data_digest(s: Spectrum) -> str:
-    """SHA-256 of the spectrum's values (kind, then x and y as little-endian float64)."""
-    h = hashlib.sha256(s.kind.value.encode())
-    h.update(np.ascontiguousarray(s.x, dtype="<f8").tobytes())
-    h.update(np.ascontiguousarray(s.y, dtype="<f8").tobytes())
-    return h.hexdigest()
+    """SHA-256 of the spectrum's values (kind, then x and y as little-endian float64).
+
+    Spectra are immutable, so the digest is remembered per object.
+    """
+    found = _digests.get(s)
+    if found is None:
+        h = hashlib.sha256(s.kind.value.encode())
+        h.update(np.ascontiguousarray(s.x, dtype="<f8").tobytes())
+        h.update(np.ascontiguousarray(s.y, dtype="<f8").tobytes())
+        found = _digests[s] = h.hexdigest()
+    return found
 
 
 def as_absorbance(s: Spectrum) -> Spectrum:
@@ -199,15 +209,11 @@ def prepare(spectrum: Spectrum, method: Method, *, data_sha256: str | None = Non
 def finish(y: F64, method: Method, digest: str = "") -> Prepared:
     """The method's steps after resampling, for absorbance ``y`` already on ``method.grid``."""
     grid = method.grid
-    if method.baseline == "asls":
-        corrected = y - k.baseline_asls(y, step=method.step, lam=method.asls_lam, p=method.asls_p)
-    elif method.baseline == "rubberband":
-        corrected = y - k.baseline_rubberband(grid, y)
-    else:
-        corrected = np.array(y, dtype=np.float64)
+    corrected = y - k.baseline(grid, y, method=method.baseline, lam=method.asls_lam, p=method.asls_p)
     final = corrected * (grid / method.atr_reference_cm1) if method.atr_correction else corrected
     keep = ~method.excluded_mask
-    reference_height = float(final[keep].max()) if keep.any() else float(final.max())
+    peak = float(final[keep].max()) if keep.any() else float(final.max())
+    reference_height = k.strongest_band_height(grid, final, keep, min_prominence=max(peak, 1e-12) * 0.01)
     vector = metric_vector(final, method)
     for a in (y, corrected, final, vector):
         a.setflags(write=False)

@@ -73,7 +73,7 @@ def judge_quality(absorbance: Spectrum, prepared: Prepared, spec: Specification
             limit=MIN_SIGNAL_TO_NOISE, comparison=">=", unit="ratio",
             message=f"strongest band / RMS noise in {hi:g}–{lo:g} cm⁻¹ = {snr:.0f}",
             details={"noise_rms_absorbance": noise, "noise_region_cm1": [hi, lo],
-                     "method": "RMS of the residual after a quadratic fit"}))
+                     "method": "RMS of second differences / √6"}))
         if not ok:
             invalid.append(Notice(code="too-noisy", message=(
                 f"signal-to-noise {snr:.0f} is below {MIN_SIGNAL_TO_NOISE:g}: co-add more scans or improve contact, "
