@@ -46,6 +46,9 @@ def create_app(settings: Settings | None = None, *, check_migrations: bool = Tru
     app.state.templates = templates
     install_error_handlers(app)
     install_security(app)
+    from service.web.pages import install_pages
+
+    install_pages(app)
 
     @app.get("/healthz", tags=["operations"], dependencies=[public()])
     def healthz() -> dict[str, str]:

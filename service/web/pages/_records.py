@@ -96,10 +96,10 @@ def _windows(doc: dict[str, Any]) -> tuple[tuple[plots.Region, ...], ...]:
 
 
 def _absorbance(data: bytes, file_name: str) -> Any:
-    from service.spectra import to_absorbance
+    from service.evaluation.method import as_absorbance
     from service.services import evaluator
 
-    return to_absorbance(evaluator.read_spectrum(data, file_name=file_name))
+    return as_absorbance(evaluator.read_spectrum(data, file_name=file_name))
 
 
 def spectrum_plot(*, sample: Any, sample_label: str, reference: Any | None, reference_label: str,
