@@ -1,0 +1,134 @@
+"""Concurrency and durability: two processes racing to decide one lot; a writer killed mid-upload."""
+
+from __future__ import annotations
+
+import os
+import signal
+import subprocess
+import sys
+import time
+from pathlib import Path
+
+import pytest
+from sqlalchemy import text
+
+from service import services as uc
+import records_spectra as sp
+from records_factories import receive
+
+ROOT = Path(__file__).resolve().parents[2]
+TESTS = ROOT / "tests"
+
+RACER = r"""
+import sys, time
+from service import services as uc
+from service.errors import Conflict
+from service.store.engine import make_engine
+url, lot_code, username, start_at = sys.argv[1], sys.argv[2], sys.argv[3], float(sys.argv[4])
+engine = make_engine(url)
+actor = uc.get_actor(engine, username)
+while time.time() < start_at:
+    time.sleep(0.001)
+try:
+    uc.dispose_lot(engine, actor, lot_code=lot_code, outcome="released", reason="race")
+    print("DECIDED")
+except Conflict as exc:
+    print("REFUSED", type(exc).__name__, exc)
+"""
+
+KILLED_WRITER = r"""
+import sys, time
+from pathlib import Path
+from sqlalchemy import event
+from service import services as uc
+from service.store.engine import make_engine
+url, lot_code, marker, data_path = sys.argv[1], sys.argv[2], Path(sys.argv[3]), sys.argv[4]
+engine = make_engine(url)
+actor = uc.get_actor(engine, "tina.tech")
+
+@event.listens_for(engine, "commit")
+def _hold_before_commit(conn):
+    # Instrumentation for the test only: the measurement, its file, its evaluation and audit events are
+    # written but not committed; say so, then wait to be killed.
+    if conn.info.get("_writing_measurement"):
+        marker.write_text("in transaction")
+        time.sleep(60)
+
+@event.listens_for(engine, "before_execute")
+def _note(conn, clauseelement, multiparams, params, execution_options):
+    if "INSERT INTO measurements" in str(clauseelement):
+        conn.info["_writing_measurement"] = True
+
+uc.record_measurement(engine, actor, lot_code=lot_code, container=1, instrument_code="FTIR-1",
+                      data=Path(data_path).read_bytes(), file_name="killed.csv")
+print("COMMITTED")
+"""
+
+
+def _env() -> dict[str, str]:
+    return dict(os.environ, PYTHONPATH=f"{ROOT}{os.pathsep}{TESTS}")
+
+
+@pytest.mark.slow
+def test_two_processes_racing_to_decide_a_lot_make_exactly_one_decision(lab, db_url: str) -> None:  # type: ignore[no-untyped-def]
+    lot = receive(lab.engine, lab.tech, material_code="TOL-01", supplier_name="Northwind Solvents", containers=1)
+    uc.record_measurement(lab.engine, lab.tech, lot_code=lot.code, container=1, instrument_code="FTIR-1",
+                          data=sp.real_csv("toluene", noise=0.002), file_name="t.csv")
+    assert uc.get_lot(lab.engine, lot.code).state == "awaiting_disposition"
+    from records_factories import make_user
+
+    make_user(lab.engine, "quentin.qa", roles=("quality",), printed_name="Quentin QA")
+    start_at = time.time() + 2.5  # both start at the same instant, after their imports
+    procs = [subprocess.Popen([sys.executable, "-c", RACER, db_url, lot.code, who, str(start_at)],
+                              stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, env=_env(), cwd=ROOT)
+             for who in ("quinn.qa", "quentin.qa")]
+    outs = [p.communicate(timeout=120) for p in procs]
+    results = [o[0].strip() for o in outs]
+    assert all(p.returncode == 0 for p in procs), [o[1] for o in outs]
+    assert sorted(r.split()[0] for r in results) == ["DECIDED", "REFUSED"], results
+    with lab.engine.connect() as conn:
+        assert conn.execute(text("SELECT COUNT(*) FROM lot_decisions")).scalar_one() == 1
+        assert conn.execute(text("SELECT COUNT(*) FROM signatures WHERE meaning = 'released'")).scalar_one() == 1
+    final = uc.get_lot(lab.engine, lot.code)
+    assert final.state == "released" and len(final.signatures) == 1
+    report = uc.verify_audit(lab.engine)
+    assert report.ok, report.problems
+
+
+@pytest.mark.slow
+def test_writer_killed_mid_upload_leaves_no_partial_record(lab, db_url: str, tmp_path: Path) -> None:  # type: ignore[no-untyped-def]
+    lot = receive(lab.engine, lab.tech, material_code="TOL-01", supplier_name="Northwind Solvents", containers=1)
+    upload = tmp_path / "upload.csv"
+    upload.write_bytes(sp.real_csv("toluene", noise=0.002, seed=9))
+    marker = tmp_path / "in-transaction"
+
+    def counts() -> dict[str, int]:
+        with lab.engine.connect() as conn:
+            return {t: conn.execute(text(f"SELECT COUNT(*) FROM {t}")).scalar_one()
+                    for t in ("measurements", "stored_files", "evaluations", "audit_events", "lot_containers")}
+
+    before = counts()
+    proc = subprocess.Popen([sys.executable, "-c", KILLED_WRITER, db_url, lot.code, str(marker), str(upload)],
+                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, env=_env(), cwd=ROOT)
+    try:
+        deadline = time.monotonic() + 90
+        while not marker.exists():
+            if proc.poll() is not None:
+                pytest.fail(f"writer ended before the commit: {proc.communicate()}")
+            if time.monotonic() > deadline:
+                pytest.fail("writer never reached its commit")
+            time.sleep(0.02)
+        os.kill(proc.pid, signal.SIGKILL)
+        proc.wait(timeout=30)
+    finally:
+        if proc.poll() is None:
+            proc.kill()
+    assert proc.returncode == -signal.SIGKILL
+    assert counts() == before  # nothing of the killed upload is in the database
+    assert uc.get_lot(lab.engine, lot.code).state == "quarantine"
+    report = uc.verify_audit(lab.engine)
+    assert report.ok, report.problems
+    # and the database takes the same upload normally afterwards (the write lock was released)
+    done = uc.record_measurement(lab.engine, lab.tech, lot_code=lot.code, container=1, instrument_code="FTIR-1",
+                                 data=upload.read_bytes(), file_name="again.csv")
+    assert done.verdict == "pass" and uc.verify_audit(lab.engine).ok
