@@ -47,7 +47,7 @@ class Band:
     shape: Literal["broad", "sharp"]
     position_method: Literal["parabolic", "centroid"]
     prominence: float = 0.0
-    index: int = 0
+    index: int = 0  # index of the maximum in the arrays given to find_bands
 
     def as_dict(self) -> dict[str, Any]:
         return {
@@ -80,6 +80,18 @@ def _positions(x: NDArray[np.float64], y: NDArray[np.float64], peaks: NDArray[np
     return pos
 
 
+def _centroids(x: NDArray[np.float64], y: NDArray[np.float64], peaks: NDArray[np.intp], half: NDArray[np.float64],
+               left_ips: NDArray[np.float64], right_ips: NDArray[np.float64]) -> NDArray[np.float64]:
+    out = x[peaks].astype(np.float64)
+    for k in range(peaks.size):
+        lo, hi = int(np.ceil(left_ips[k])), int(np.floor(right_ips[k])) + 1
+        w = np.clip(y[lo:hi] - half[k], 0.0, None)
+        total = float(w.sum())
+        if total > 0:
+            out[k] = float(np.dot(w, x[lo:hi]) / total)
+    return out
+
+
 def find_bands(
     x: Any,
     y: Any,
@@ -88,6 +100,7 @@ def find_bands(
     min_prominence: float = 0.01,
     reference_height: float | None = None,
     classes: BandClasses = BandClasses(),
+    position_method: Literal["parabolic", "centroid"] = "parabolic",
 ) -> list[Band]:
     """Find and measure the bands of ``y`` (absorbance, bands as maxima) within ``window``.
 
@@ -104,6 +117,10 @@ def find_bands(
         window, i.e. relative intensity is against the strongest band in the evaluated range.
     classes : BandClasses
         Thresholds for strong/medium/weak and broad/sharp.
+    position_method : {"parabolic", "centroid"}
+        ``parabolic``: vertex of the parabola through the maximum and its two neighbours.
+        ``centroid``: centre of gravity of the band above its half height (over the local
+        baseline), which uses more points and suits broad or noisy bands.
 
     Returns
     -------
@@ -113,6 +130,8 @@ def find_bands(
     ya = np.asarray(y, dtype=np.float64)
     if xa.ndim != 1 or xa.shape != ya.shape:
         raise InvalidInput(f"find_bands needs one value per wavenumber; got {ya.shape} values for {xa.shape} points")
+    if position_method not in ("parabolic", "centroid"):
+        raise InvalidInput(f"position_method must be 'parabolic' or 'centroid', not {position_method!r}")
     if min_prominence <= 0:
         raise InvalidInput(f"min_prominence must be positive, got {min_prominence!r}")
     if window is not None:
@@ -120,7 +139,9 @@ def find_bands(
         if lo >= hi:
             raise InvalidInput(f"a band window needs low < high; got {lo:g}–{hi:g}")
         i0, i1 = int(np.searchsorted(xa, lo, "left")), int(np.searchsorted(xa, hi, "right"))
-        xa, ya = xa[i0:i1], ya[i0:i1]
+        xa, ya, offset = xa[i0:i1], ya[i0:i1], i0
+    else:
+        offset = 0
     if xa.size < 3:
         return []
     peaks, props = find_peaks(ya, prominence=min_prominence)
@@ -138,18 +159,22 @@ def find_bands(
     x_left = np.interp(widths[2], idx, xa)
     x_right = np.interp(widths[3], idx, xa)
     fwhm = x_right - x_left
-    positions = _positions(xa, ya, peaks)
+    if position_method == "parabolic":
+        positions = _positions(xa, ya, peaks)
+    else:
+        positions = _centroids(xa, ya, peaks, base_at_peak + 0.5 * heights, widths[2], widths[3])
     ref = float(heights.max()) if reference_height is None else float(reference_height)
     if not ref > 0:
         raise InvalidInput(f"reference height must be positive, got {ref!r}")
+    strong, medium, broad = classes.strong, classes.medium, classes.broad_fwhm_cm1
     bands = []
-    for k in range(peaks.size):
-        rel = float(heights[k] / ref)
-        strength = "strong" if rel >= classes.strong else "medium" if rel >= classes.medium else "weak"
-        shape = "broad" if fwhm[k] >= classes.broad_fwhm_cm1 else "sharp"
+    for pos, h, w, prom, i in zip(positions.tolist(), heights.tolist(), fwhm.tolist(),
+                                  props["prominences"].tolist(), peaks.tolist()):
+        rel = h / ref
         bands.append(Band(
-            position_cm1=float(positions[k]), height=float(heights[k]), relative_intensity=rel,
-            fwhm_cm1=float(fwhm[k]), strength=strength, shape=shape, position_method="parabolic",
-            prominence=float(props["prominences"][k]), index=int(peaks[k]),
+            position_cm1=pos, height=h, relative_intensity=rel, fwhm_cm1=w,
+            strength="strong" if rel >= strong else "medium" if rel >= medium else "weak",
+            shape="broad" if w >= broad else "sharp", position_method=position_method,
+            prominence=prom, index=i + offset,
         ))
     return bands

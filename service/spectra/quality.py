@@ -14,9 +14,11 @@ from typing import Any, Literal
 
 import numpy as np
 from numpy.typing import NDArray
+from scipy.ndimage import percentile_filter
 
 from service.errors import InvalidInput
-from service.spectra.baseline import baseline_asls, baseline_rubberband
+from service.spectra.bands import find_bands
+from service.spectra.baseline import baseline_rubberband
 from service.spectra.model import Spectrum, YKind
 from service.spectra.smoothing import SavitzkyGolay
 
@@ -29,7 +31,8 @@ class QualityLimits:
     """Limits for :func:`assess_quality` (defaults: common practice)."""
 
     max_absorbance: float = 1.5  # strongest band not saturated (T >~ 3 %)
-    max_flat_top_ratio: float = 0.3  # flat top width / FWHM of the strongest band
+    max_flat_top_ratio: float = 0.3  # flat top width / FWHM of a strong band
+    flat_top_min_absorbance: float = 0.5  # tops lower than this cannot be clipped by the detector
     min_band_height: float = 0.1  # strongest band not too weak (absorbance above baseline)
     min_snr: float = 100.0  # strongest band height / noise RMS
     noise_regions: tuple[Region, ...] = ((2000.0, 2200.0),)  # band-free for most organics
@@ -146,7 +149,8 @@ def assess_quality(spectrum_absorbance: Spectrum, *, limits: QualityLimits = Qua
 
     The strongest band's height is taken above a rubber-band baseline; noise is the median RMS
     of quadratic-fit residuals over 50 cm⁻¹ segments of the band-free regions; negative bands
-    are dips below an asymmetric least squares baseline; water-vapour lines are the sharp-line
+    are dips below a running 10th percentile (~1000 cm⁻¹, wide enough to reach a band-free stretch
+    beside a crowded fingerprint region) beyond 3 × noise; water-vapour lines are the sharp-line
     residual (values minus a ~25 cm⁻¹ Savitzky-Golay smooth) in excess of the noise.
     """
     s = spectrum_absorbance
@@ -171,19 +175,24 @@ def assess_quality(spectrum_absorbance: Spectrum, *, limits: QualityLimits = Qua
 
     w = max(5, int(round(15.0 / dx)) | 1)
     smooth = SavitzkyGolay(window=w, polyorder=2).apply(corrected) if a.size > w else corrected
-    st = int(np.argmax(smooth))
-    sh = float(smooth[st])
-    if sh > 0:
-        fwhm = _run_width(x, smooth >= 0.5 * sh, st)
-        flat = _run_width(x, smooth >= 0.98 * sh, st)
-        ratio = flat / fwhm if fwhm > 0 else 0.0
-    else:
-        ratio = 0.0
+    noise = _noise_rms(x, a, limits.noise_regions)
+    ratio, where_flat = 0.0, float(x[top])
+    if height > 0:
+        # on the unsmoothed values (smoothing rounds a clipped top): points within 2 % of the band height
+        # (or 4 × noise, if larger) of its maximum, against the full width at half height
+        tol_top = max(0.02 * height, 4.0 * (noise or 0.0))
+        for band in find_bands(x, corrected, min_prominence=0.25 * height):
+            if band.height < 0.5 * height or band.fwhm_cm1 <= 0 or a[band.index] < limits.flat_top_min_absorbance:
+                continue
+            # minus one spacing: two points straddling a sharp maximum are not a flat top
+            flat = max(0.0, _run_width(x, corrected >= corrected[band.index] - tol_top, band.index) - dx)
+            if flat / band.fwhm_cm1 > ratio:
+                ratio, where_flat = flat / band.fwhm_cm1, band.position_cm1
     ok = ratio <= limits.max_flat_top_ratio
     findings.append(QualityFinding(
         "flat-topped band", "pass" if ok else "fail", _r(ratio, 4), limits.max_flat_top_ratio,
-        f"top of the strongest band (within 2 % of its height) spans {ratio:.2f} of its half-height width"
-        + ("" if ok else ": the band is clipped (saturated); measure a thinner sample"), "ratio"))
+        f"flattest strong band top (within 2 % of its height) at {where_flat:.1f} cm⁻¹ spans {ratio:.2f} of its "
+        "half-height width" + ("" if ok else ": the band is clipped (saturated); measure a thinner sample"), "ratio"))
 
     ok = height >= limits.min_band_height
     findings.append(QualityFinding(
@@ -191,7 +200,6 @@ def assess_quality(spectrum_absorbance: Spectrum, *, limits: QualityLimits = Qua
         f"strongest band {height:.3f} absorbance above baseline at {x[top]:.1f} cm⁻¹"
         + ("" if ok else ": too weak to judge; use more sample or better ATR contact"), "absorbance"))
 
-    noise = _noise_rms(x, a, limits.noise_regions)
     regions = ", ".join(f"{lo:g}–{hi:g}" for lo, hi in limits.noise_regions)
     if noise is None:
         findings.append(QualityFinding(
@@ -208,15 +216,18 @@ def assess_quality(spectrum_absorbance: Spectrum, *, limits: QualityLimits = Qua
             "absorbance RMS"))
     noise_v = noise or 0.0
 
-    lam = 1e5 / max(dx, 1e-3) ** 4
-    asls = baseline_asls(a, lam=lam, p=0.01, max_iter=30)
-    dip = max(0.0, -float(asls.corrected.min()))
+    # general baseline level: a running 10th percentile over ~1000 cm⁻¹ of the smoothed values, which a
+    # narrow dip cannot pull down; a dip below it deeper than the noise is a negative band
+    size = max(3, int(round(1000.0 / dx)) | 1)
+    level = percentile_filter(smooth + rb.baseline, 10, size=size, mode="nearest")
+    depth = level - (smooth + rb.baseline) - 3.0 * (noise or 0.0)
+    k = int(np.argmax(depth))
+    dip = max(0.0, float(depth[k]))
     rel = dip / height if height > 0 else 0.0
     ok = rel <= limits.max_negative_band
-    where = x[int(np.argmin(asls.corrected))]
     findings.append(QualityFinding(
         "negative bands", "pass" if ok else "warn", _r(rel, 4), limits.max_negative_band,
-        f"deepest dip below the baseline {dip:.4f} absorbance at {where:.1f} cm⁻¹ "
+        f"deepest dip below the baseline level {dip:.4f} absorbance at {x[k]:.1f} cm⁻¹ "
         f"({100 * rel:.1f} % of the strongest band)"
         + ("" if ok else ": clean the ATR crystal / cell and record a new background"), "fraction of strongest band"))
 

@@ -73,3 +73,12 @@ def test_inputs_not_modified_and_bad_parameters() -> None:
         find_bands(X, y[:10])
     with pytest.raises(InvalidInput):
         find_bands(X, y, window=(3000, 2000))
+
+
+def test_centroid_position_of_a_symmetric_band() -> None:
+    y = _gauss(1715.3, 20.0, 1.0)
+    (band,) = find_bands(X, y, min_prominence=0.1, position_method="centroid")
+    assert band.position_method == "centroid"
+    assert band.position_cm1 == pytest.approx(1715.3, abs=0.05)
+    with pytest.raises(InvalidInput):
+        find_bands(X, y, position_method="peak")
