@@ -35,12 +35,71 @@ from service.spectra.quality import (
 from service.spectra.similarity import cosine, euclidean_distance, first_derivative_correlation, pearson
 from service.spectra.smoothing import SavitzkyGolay
 
+from service.spectra.axis_units import XUnit
+from service.spectra.conversion import to_absorbance, to_percent_transmittance, to_transmittance
+from service.spectra.delimited import read_delimited
+from service.spectra.jcamp_reader import JcampBlock, Peak, PeakTable, read_jcamp_blocks
+from service.spectra.jcamp_writer import write_jcamp
+from service.spectra.reader_errors import ACCEPTED_FORMATS, ReaderError
+from service.spectra.readers import decode_text, detect_format, read_jcamp_file, read_peak_table, read_spectrum
+
+
 __all__ = [
-    "Band", "BandClasses", "BaselineResult", "CheckItem", "InstrumentCheck", "PH_EUR_BANDS", "PH_EUR_RESOLUTION",
-    "PolystyreneCheckError", "Processed", "QualityFinding", "QualityLimits", "QualityReport", "SavitzkyGolay",
-    "Spectrum", "SpectrumError", "SpectrumMeta", "Step", "YKind", "assess_quality", "atr_correct",
-    "baseline_arpls", "baseline_asls", "baseline_rubberband", "check_polystyrene", "cosine", "coverage_findings",
-    "crop", "euclidean_distance", "find_bands", "first_derivative_correlation", "mask_regions",
-    "normalise_minmax", "normalise_snv", "normalise_vector", "parabolic_offset", "pearson",
-    "penetration_depth_um", "resample", "run_steps", "uniform_grid",
+    "ACCEPTED_FORMATS",
+    "Band",
+    "BandClasses",
+    "BaselineResult",
+    "CheckItem",
+    "InstrumentCheck",
+    "JcampBlock",
+    "PH_EUR_BANDS",
+    "PH_EUR_RESOLUTION",
+    "Peak",
+    "PeakTable",
+    "PolystyreneCheckError",
+    "Processed",
+    "QualityFinding",
+    "QualityLimits",
+    "QualityReport",
+    "ReaderError",
+    "SavitzkyGolay",
+    "Spectrum",
+    "SpectrumError",
+    "SpectrumMeta",
+    "Step",
+    "XUnit",
+    "YKind",
+    "assess_quality",
+    "atr_correct",
+    "baseline_arpls",
+    "baseline_asls",
+    "baseline_rubberband",
+    "check_polystyrene",
+    "cosine",
+    "coverage_findings",
+    "crop",
+    "decode_text",
+    "detect_format",
+    "euclidean_distance",
+    "find_bands",
+    "first_derivative_correlation",
+    "mask_regions",
+    "normalise_minmax",
+    "normalise_snv",
+    "normalise_vector",
+    "parabolic_offset",
+    "pearson",
+    "penetration_depth_um",
+    "read_delimited",
+    "read_jcamp_blocks",
+    "read_jcamp_file",
+    "read_peak_table",
+    "read_spectrum",
+    "resample",
+    "run_steps",
+    "to_absorbance",
+    "to_percent_transmittance",
+    "to_transmittance",
+    "uniform_grid",
+    "write_jcamp",
 ]

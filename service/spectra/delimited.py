@@ -1,0 +1,237 @@
+"""Delimited text spectra (CSV, semicolon- or tab-separated, or blank-separated columns).
+
+What real exports vary in, and how each is settled (common practice; every decision made for
+the caller goes into a note on the spectrum):
+
+* separator: tab, then semicolon, then comma, then blanks, whichever splits the data lines
+  into the same number of fields;
+* decimal comma: allowed when the separator is not a comma (``4000,5;0,123``);
+* a header line (or several lines of text before the numbers) or none;
+* ascending or descending axis (stored ascending);
+* wavenumber (cm⁻¹) or wavelength (µm by range, nm only when the header or caller says so);
+* the kind of value from the column header, else from the values themselves.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import re
+
+import numpy as np
+from numpy.typing import NDArray
+
+from service.spectra.axis_units import (
+    XUnit,
+    guess_x_unit,
+    guess_y_kind,
+    parse_x_unit,
+    parse_y_kind,
+    to_wavenumber,
+    transmittance_scale,
+    x_unit_label,
+    y_kind_from_label,
+)
+from service.spectra.model import Spectrum, SpectrumError, SpectrumMeta, YKind
+from service.spectra.reader_errors import ReaderError
+
+FORMAT = "delimited-text"
+_NUM = re.compile(r"^[+-]?(\d+\.?\d*|\.\d+)([eE][+-]?\d+)?$")
+_SEPARATORS = (("\t", "tab"), (";", "semicolon"), (",", "comma"), (None, "blanks"))
+
+
+def _is_number(field: str) -> bool:
+    return bool(_NUM.match(field.strip()))
+
+
+def _split(line: str, sep: str | None) -> list[str]:
+    if sep is None:
+        return line.split()
+    if '"' in line:
+        return next(csv.reader(io.StringIO(line), delimiter=sep))
+    return line.split(sep)
+
+
+def _numeric_fields(fields: list[str], decimal_comma: bool) -> bool:
+    fs = [f.strip() for f in fields]
+    while fs and fs[-1] == "":
+        fs.pop()
+    if len(fs) < 2:
+        return False
+    if decimal_comma:
+        fs = [f.replace(",", ".") for f in fs]
+    return all(_is_number(f) for f in fs)
+
+
+def sniff(text: str) -> tuple[str | None, str, bool] | None:
+    """(separator, its name, decimal comma) if the text looks like columns of numbers, else None."""
+    lines = [ln for ln in text.split("\n") if ln.strip() and not ln.lstrip().startswith("#")][:200]
+    if not lines:
+        return None
+    tail = lines[len(lines) // 3:] or lines  # past any header block
+    for sep, name in _SEPARATORS:
+        for decimal_comma in ((False, True) if sep != "," else (False,)):
+            rows = [_split(ln, sep) for ln in tail]
+            good = [r for r in rows if _numeric_fields(r, decimal_comma)]
+            if len(good) >= max(2, int(0.9 * len(rows))):
+                widths = {len([f for f in r if f.strip()]) for r in good}
+                if len(widths) == 1:
+                    return sep, name, decimal_comma
+    return None
+
+
+def read_delimited(
+    text: str,
+    *,
+    x_unit: str | XUnit | None = None,
+    y_kind: YKind | str | None = None,
+    column: str | int | None = None,
+) -> Spectrum:
+    """Read one spectrum from delimited text.
+
+    Parameters
+    ----------
+    text
+        The file as text, ``\\n`` line ends, BOM removed.
+    x_unit
+        Override for the abscissa: ``"cm-1"``, ``"um"`` or ``"nm"``.
+    y_kind
+        Override for the value kind (a `YKind` or its name).
+    column
+        Which value column to take when the file has several (header name or 1-based index
+        among the value columns); without it such a file is refused.
+
+    Raises
+    ------
+    ReaderError
+        Anything that keeps the text from being one spectrum, naming the line.
+    """
+    found = sniff(text)
+    if found is None:
+        raise ReaderError(
+            "no columns of numbers found; delimited text needs one abscissa column and one value column "
+            "separated by comma, semicolon, tab or blanks"
+        )
+    sep, sep_name, decimal_comma = found
+    header: list[str] | None = None
+    rows: list[list[str]] = []
+    row_lines: list[int] = []
+    for no, line in enumerate(text.split("\n"), start=1):
+        if not line.strip() or line.lstrip().startswith("#"):
+            continue
+        fields = [f.strip() for f in _split(line, sep)]
+        while fields and fields[-1] == "":
+            fields.pop()
+        if _numeric_fields(fields, decimal_comma):
+            rows.append(fields)
+            row_lines.append(no)
+        elif rows:
+            raise ReaderError(f"line {no} is not numbers ({line.strip()[:60]!r}); data lines must hold only numbers")
+        else:
+            header = fields
+    widths = {len(r) for r in rows}
+    if len(widths) != 1:
+        counts = [len(r) for r in rows]
+        i = next(i for i, c in enumerate(counts) if c != counts[0])
+        raise ReaderError(f"line {row_lines[i]} has {counts[i]} fields but line {row_lines[0]} has {counts[0]}")
+    width = widths.pop()
+    flat = [f.replace(",", ".") for r in rows for f in r] if decimal_comma else [f for r in rows for f in r]
+    table = np.array(flat, dtype=np.float64).reshape(len(rows), width)
+    if header is not None and len(header) != width:
+        header = None  # free text before the data, not column names
+    notes = [f"delimited text: {len(rows)} rows, {width} columns separated by {sep_name}"
+             + (", decimal comma" if decimal_comma else "")]
+    col = _choose_column(width, header, column)
+    x, y = table[:, 0], table[:, col]
+    if not np.all(np.isfinite(table[:, [0, col]])):
+        bad = int(np.flatnonzero(~np.isfinite(table[:, [0, col]]).all(axis=1))[0])
+        raise ReaderError(f"line {row_lines[bad]} holds a value that is not a finite number")
+    if width > 2:
+        name = header[col] if header else f"column {col + 1}"
+        notes.append(f"value column {name!r} taken of {width - 1}")
+    xs, x_note = _x_axis(x, header[0] if header else "", parse_x_unit(x_unit))
+    notes.append(x_note)
+    if x.size > 1 and x[0] > x[-1]:
+        notes.append("axis given in descending order; stored ascending")
+    kind, y_note = _y_kind(y, header[col] if header else "", parse_y_kind(y_kind))
+    notes.append(y_note)
+    try:
+        return Spectrum.create(xs, y, kind, meta=SpectrumMeta(format=FORMAT), notes=notes)
+    except SpectrumError as exc:
+        raise ReaderError(str(exc)) from None
+
+
+def _choose_column(width: int, header: list[str] | None, column: str | int | None) -> int:
+    if width == 2 and column is None:
+        return 1
+    names = header[1:] if header else []
+    if column is None:
+        listed = ", ".join(repr(n) for n in names[:8]) if names else f"{width - 1} unnamed columns"
+        raise ReaderError(
+            f"the file holds {width - 1} value columns ({listed}); one spectrum per file is read: "
+            "save one column with its axis, or choose the column"
+        )
+    if isinstance(column, int) or str(column).isdigit():
+        i = int(column)
+        if not 1 <= i <= width - 1:
+            raise ReaderError(f"value column {i} does not exist; the file has {width - 1}")
+        return i
+    if str(column) in names:
+        return names.index(str(column)) + 1
+    raise ReaderError(f"no value column named {column!r}; the columns are {', '.join(repr(n) for n in names)}")
+
+
+def _x_axis(x: NDArray[np.float64], head: str, override: XUnit | None) -> tuple[NDArray[np.float64], str]:
+    if override is not None:
+        xs, conv = to_wavenumber(x, override)
+        return xs, "; ".join(n for n in (f"abscissa unit set by the caller: {x_unit_label(override)}", conv) if n)
+    h = head.lower()
+    unit: XUnit | None = None
+    if re.search(r"µm|μm|\bum\b|micron|micromet", h):
+        unit = XUnit.micrometre
+    elif re.search(r"\bnm\b|nanomet", h):
+        unit = XUnit.nanometre
+    elif re.search(r"cm|wavenumber|1/cm", h):
+        unit = XUnit.wavenumber
+    elif "wavelength" in h:
+        unit = XUnit.micrometre if float(np.max(x)) <= 50 else XUnit.nanometre
+    if unit is not None:
+        xs, conv = to_wavenumber(x, unit)
+        return xs, "; ".join(n for n in (f"abscissa read as {x_unit_label(unit)} (column {head!r})", conv) if n)
+    unit = guess_x_unit(x)
+    xs, conv = to_wavenumber(x, unit)
+    lo, hi = float(np.min(x)), float(np.max(x))
+    said = f"abscissa read as {x_unit_label(unit)} from its range ({lo:g}-{hi:g}); override if wrong"
+    return xs, "; ".join(n for n in (said, conv) if n)
+
+
+def _y_kind(y: NDArray[np.float64], head: str, override: YKind | None) -> tuple[YKind, str]:
+    if override is not None:
+        return override, f"value kind set by the caller: {override.value}"
+    code = y_kind_from_label(head) if head else None
+    if code is None and head:
+        h = head.lower()
+        if "reflect" in h:
+            code = "R"
+        elif "%" in h or "percent" in h:
+            code = "%T"
+        elif "absorb" in h:
+            code = "A"
+        elif "transmi" in h:
+            code = "T?"
+        elif "kubelka" in h:
+            code = "KM"
+    if code == "A" or code == "logR":
+        return YKind.absorbance, f"values read as absorbance (column {head!r})"
+    if code == "%T":
+        return YKind.percent_transmittance, f"values read as percent transmittance (column {head!r})"
+    if code == "T?":
+        kind = transmittance_scale(y)
+        scale = "percent" if kind is YKind.percent_transmittance else "fraction"
+        return kind, f"values read as transmittance ({scale}, judged from the values; column {head!r})"
+    if code == "R":
+        return YKind.reflectance, f"values read as reflectance (column {head!r})"
+    if code == "KM":
+        return YKind.kubelka_munk, f"values read as Kubelka-Munk units (column {head!r})"
+    kind, why = guess_y_kind(y)
+    return kind, f"value kind judged from the values: {why}; override if wrong"
