@@ -15,7 +15,7 @@ from service.store.engine import make_engine
 from service.store.migrations import current_revision, ensure_at_head, head_revision
 from service.web.auth import public
 from service.web.errors import install_error_handlers
-from service.web.guard import install_security
+from service.web.guard import app_dependencies, install_security
 
 TEMPLATES_DIR = Path(__file__).resolve().parents[2] / "templates"
 
@@ -38,6 +38,7 @@ def create_app(settings: Settings | None = None, *, check_migrations: bool = Tru
         openapi_url="/api/v1/openapi.json",
         docs_url="/api/v1/docs",
         redoc_url=None,
+        dependencies=app_dependencies(),  # every route must declare its action (docs/security.md)
     )
     app.state.settings = settings
     app.state.engine = engine

@@ -47,6 +47,13 @@ class PasswordChangeRequired(Forbidden):
     title = "Choose a new password first"
 
 
+class AccessDenied(Forbidden):
+    """The route's action is not granted to the caller's roles or scopes (refused before the route runs)."""
+
+    code = "access-denied"
+    title = "Not allowed"
+
+
 class CsrfRefused(Forbidden):
     code = "csrf-refused"
     title = "Form expired or not from this site"
@@ -159,7 +166,7 @@ def require_action(action: Action) -> Any:
                 raise NotAuthenticated("the bearer token is not recognised or was revoked; "
                                        "ask an administrator for a token (`bandgate token create`)")
             if not client_may(client.scopes, action):
-                raise Forbidden(f"this client's token (scopes: {', '.join(sorted(client.scopes))}) does not "
+                raise AccessDenied(f"this client's token (scopes: {', '.join(sorted(client.scopes))}) does not "
                                 f"allow {action.value.replace('_', ' ')}"
                                 + ("; signatures are given by people, never by tokens"
                                    if action.value.startswith("sign_") else ""))
@@ -171,7 +178,7 @@ def require_action(action: Action) -> Any:
             raise PasswordChangeRequired("your password was set by an administrator: choose your own password "
                                          "before doing anything else")
         if not person_may(person.actor.roles, action):
-            raise Forbidden(f"your roles ({', '.join(sorted(person.actor.roles)) or 'none'}) do not allow "
+            raise AccessDenied(f"your roles ({', '.join(sorted(person.actor.roles)) or 'none'}) do not allow "
                             f"{action.value.replace('_', ' ')}")
         await _check_csrf(request, person)
         return Principal(person=person)

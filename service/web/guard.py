@@ -3,8 +3,9 @@
 `install_security(app)` is called once by `create_app`. It
 
 * adds the security-header and body-limit middleware (``security_headers.py``);
-* seals the routes on the first request: any route that declares no action (see ``auth.py``)
-  is replaced by a handler that answers 403, so a forgotten declaration fails closed;
+* checks (with `route_guard`, an app-wide dependency given to the ``FastAPI`` constructor) that
+  the route being served declares an action (see ``auth.py``); one that declares none answers
+  403, so a forgotten declaration fails closed;
 * sends a person who is not signed in (on a page, with GET) to ``/login?next=...`` and a person
   who must choose a new password to ``/account/password``; the API gets problem responses;
 * mounts the sign-in, sign-out, password and people-administration pages.
@@ -13,17 +14,19 @@
 from __future__ import annotations
 
 import logging
+from dataclasses import dataclass
 from typing import Any
 from urllib.parse import quote
 
-from fastapi import FastAPI, Request
+from fastapi import Depends, FastAPI, Request
 from fastapi.responses import RedirectResponse, Response
-from fastapi.routing import APIRoute
+from fastapi.routing import iter_route_contexts
 from starlette.routing import Mount, Route
 from starlette.staticfiles import StaticFiles
 
 from service.errors import NotAuthenticated
-from service.web.auth import PasswordChangeRequired, declared_actions
+from service.release.permissions import Action
+from service.web.auth import AccessDenied, PasswordChangeRequired, declared_actions
 from service.web.errors import problem_response
 from service.web.security_headers import BodyLimitMiddleware, SecurityHeadersMiddleware
 
@@ -32,68 +35,76 @@ log = logging.getLogger("bandgate.security")
 # Non-FastAPI routes the framework itself adds; open to everyone (the API description).
 FRAMEWORK_PUBLIC_PATHS = frozenset({"/api/v1/openapi.json", "/api/v1/docs", "/api/v1/docs/oauth2-redirect",
                                     "/docs", "/docs/oauth2-redirect", "/openapi.json", "/redoc"})
+DENIED_HEADER = "X-Access-Denied"  # marks a refusal by the role/scope table (the route never ran)
 MULTIPART_ALLOWANCE = 256 * 1024  # headers and form fields around an upload
 
 
-async def _undeclared(scope: Any, receive: Any, send: Any) -> None:
-    request = Request(scope, receive)
-    response = problem_response(request, status=403, code="forbidden", title="Not allowed",
-                                detail="this route declares no permission and is closed; "
-                                       "report it to the administrator")
-    await response(scope, receive, send)
+@dataclass(frozen=True, kw_only=True)
+class RouteInfo:
+    """One route as served: methods, full path, and the actions its dependencies declare."""
+
+    methods: frozenset[str]
+    path: str
+    actions: frozenset[Action]
+    original: Any
 
 
-def undeclared_routes(routes: list[Any], prefix: str = "") -> list[tuple[str, Any]]:
-    """Routes (with their full path) that declare no action and are not framework-public."""
-    out: list[tuple[str, Any]] = []
-    for route in routes:
-        if isinstance(route, APIRoute):
-            if not declared_actions(route.dependant):
-                out.append((prefix + route.path, route))
-        elif isinstance(route, Mount):
-            if isinstance(route.app, StaticFiles):
-                continue
-            inner = getattr(route.app, "routes", None)
-            if inner is None:
-                out.append((prefix + route.path, route))
-            else:
-                out.extend(undeclared_routes(list(inner), prefix + route.path))
-        elif isinstance(route, Route):
-            if prefix + route.path not in FRAMEWORK_PUBLIC_PATHS:
-                out.append((prefix + route.path, route))
-        else:
-            out.append((prefix + getattr(route, "path", "?"), route))
+def route_table(app: FastAPI) -> list[RouteInfo]:
+    """Every FastAPI route as served (routers flattened, prefixes and router dependencies applied)."""
+    out: list[RouteInfo] = []
+    for rc in iter_route_contexts(app.routes):
+        dependant = getattr(rc, "dependant", None)
+        if dependant is None:  # a plain Starlette route or mount (framework pages, static files)
+            continue
+        out.append(RouteInfo(methods=frozenset(rc.methods or ()), path=str(rc.path),
+                             actions=frozenset(declared_actions(dependant)), original=rc.original_route))
     return out
 
 
-def seal_routes(app: FastAPI) -> list[str]:
-    """Close every undeclared route (answering 403); return their paths."""
-    closed = []
-    for path, route in undeclared_routes(list(app.routes)):
-        route.app = _undeclared
-        closed.append(path)
-        log.warning("route %s declares no action: closed", path)
-    return closed
+def undeclared_routes(app: FastAPI) -> list[str]:
+    """Routes that would be closed at run time: FastAPI routes declaring no action, and plain
+    Starlette routes or mounts that are neither framework-public nor static files."""
+    missing = [f"{','.join(sorted(r.methods))} {r.path}" for r in route_table(app) if not r.actions]
+    for rc in iter_route_contexts(app.routes):
+        if getattr(rc, "dependant", None) is not None:
+            continue
+        route = rc.original_route
+        if isinstance(route, Mount) and isinstance(route.app, StaticFiles):
+            continue
+        if isinstance(route, Route) and route.path in FRAMEWORK_PUBLIC_PATHS:
+            continue
+        missing.append(f"{getattr(route, 'path', '?')} ({type(route).__name__})")
+    return missing
 
 
-class _SealOnFirstRequest:
-    """Seals the routes when the first request arrives, after every router has been included."""
+def _actions_of(app: FastAPI, route: Any) -> frozenset[Action]:
+    cache: dict[int, frozenset[Action]] | None = getattr(app.state, "route_actions", None)
+    if cache is None or id(route) not in cache:
+        cache = {}
+        for info in route_table(app):
+            known = cache.get(id(info.original))
+            # The same route included twice with different declarations: keep the stricter reading.
+            cache[id(info.original)] = info.actions if known is None or info.actions else frozenset()
+        app.state.route_actions = cache
+    return cache.get(id(route), frozenset())
 
-    def __init__(self, app: Any, *, fastapi_app: FastAPI) -> None:
-        self.app = app
-        self.fastapi_app = fastapi_app
-        self.sealed = False
 
-    async def __call__(self, scope: Any, receive: Any, send: Any) -> None:
-        if not self.sealed and scope["type"] == "http":
-            seal_routes(self.fastapi_app)
-            self.sealed = True
-        await self.app(scope, receive, send)
+async def route_guard(request: Request) -> None:
+    """App-wide dependency: refuse any route whose dependencies declare no action (fail closed)."""
+    route = request.scope.get("route")
+    if route is None or not _actions_of(request.app, route):
+        raise AccessDenied("this route declares no permission and is closed; report it to the administrator")
+
+
+def app_dependencies() -> list[Any]:
+    """Dependencies for the `FastAPI(...)` constructor, so that every route added later gets them."""
+    return [Depends(route_guard)]
 
 
 def install_security(app: FastAPI) -> None:
     settings = app.state.settings
-    app.add_middleware(_SealOnFirstRequest, fastapi_app=app)
+    if not any(getattr(d, "dependency", None) is route_guard for d in app.router.dependencies):
+        raise RuntimeError("create the app with FastAPI(dependencies=app_dependencies()) so every route is guarded")
     app.add_middleware(BodyLimitMiddleware, limit=settings.max_upload_bytes + MULTIPART_ALLOWANCE)
     app.add_middleware(SecurityHeadersMiddleware)
 
@@ -101,11 +112,20 @@ def install_security(app: FastAPI) -> None:
     async def _not_signed_in(request: Request, exc: NotAuthenticated) -> Response:
         if not request.url.path.startswith("/api/") and request.method in ("GET", "HEAD"):
             target = request.url.path + (f"?{request.url.query}" if request.url.query else "")
-            return RedirectResponse(f"/login?next={quote(target, safe='')}", status_code=303)
+            redirect = RedirectResponse(f"/login?next={quote(target, safe='')}", status_code=303)
+            redirect.headers[DENIED_HEADER] = "signed-out"
+            return redirect
         retry = getattr(exc, "retry_after", 0)
         response = problem_response(request, status=401, code=exc.code, title=exc.title, detail=exc.message)
+        response.headers[DENIED_HEADER] = "signed-out"
         if retry:
             response.headers["Retry-After"] = str(retry)
+        return response
+
+    @app.exception_handler(AccessDenied)
+    async def _denied(request: Request, exc: AccessDenied) -> Response:
+        response = problem_response(request, status=403, code=exc.code, title=exc.title, detail=exc.message)
+        response.headers[DENIED_HEADER] = "role" if not request.headers.get("authorization") else "scope"
         return response
 
     @app.exception_handler(PasswordChangeRequired)
