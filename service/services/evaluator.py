@@ -106,3 +106,22 @@ def library_for(entries: list[tuple[int, str, str]], load: Callable[[int], tuple
     if len(_libraries) > 8:
         _libraries.popitem(last=False)
     return lib
+
+
+def check_polystyrene(spectrum: Any) -> tuple[bool, dict[str, Any]]:
+    """Run the polystyrene film check (Ph. Eur. 2.2.24); returns (passed, JSON-safe result)."""
+    try:
+        from service.spectra.polystyrene import check_polystyrene as _check
+    except ImportError as exc:  # pragma: no cover
+        raise _missing("the polystyrene check", exc) from None
+    result = _check(spectrum)
+    return bool(result.passed), result.as_dict()
+
+
+def known_preparations() -> tuple[str, ...]:
+    """Preparation codes the evaluator knows (a reference must name one of them)."""
+    try:
+        from service.evaluation import PREPARATIONS
+    except ImportError as exc:  # pragma: no cover
+        raise _missing("the evaluator", exc) from None
+    return tuple(PREPARATIONS)

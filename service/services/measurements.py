@@ -6,12 +6,16 @@ size and original file name (metadata only), whatever becomes of it:
 * ``accepted``: read and evaluated; the full Evaluation JSON, the spec version, the reference and
   the software version are stored with it;
 * ``unreadable``: the reader refused the file; the reason is its message;
-* ``refused``: the upload was not allowed (lot closed, container not in the plan or already
+* ``refused``: the upload was not allowed (lot awaiting a decision, container not in the plan or already
   holding a result, instrument not qualified, no approved spec or reference).
 
 The record is committed first; then an unreadable upload raises :class:`UploadUnreadable`
 (UnusableInput) and a refused one :class:`MeasurementRefused` (Conflict), both carrying the
 stored measurement, so callers answer with an error and the evidence is still kept.
+
+An upload naming an unknown lot, container or instrument, or a lot that is already released or
+rejected, is refused without being stored (there is no open record to attach it to; a decided
+lot's signed content must not change).
 """
 
 from __future__ import annotations
@@ -176,6 +180,9 @@ def record_measurement(engine: Engine, actor: Actor, *, lot_code: str, container
 
     def resolve(s: Session) -> tuple[Lot, LotContainer, Instrument, str | None]:
         lot = sh.lot(s, lot_code)
+        if LotState(lot.state).is_final:
+            raise Conflict(f"lot {lot.code} is closed ({LotState(lot.state).label}); nothing more can be "
+                           "recorded against it, and this upload was not stored")
         cont = repo.container_by_number(s, lot.id, container)  # type: ignore[arg-type]
         if cont is None:
             raise NotFound(f"lot {lot.code} has containers 1 to {lot.containers_received}; there is no "

@@ -117,7 +117,11 @@ def add_reference(engine: Engine, actor: Actor, *, material_code: str, preparati
                   file_name: str = "", instrument_code: str | None = None, conditions: str = "",
                   measured_on: date | None = None) -> ReferenceView:
     """Store a reference spectrum (raw file unchanged) as a draft; the file must be readable."""
-    preparation = sh.require_text(preparation, "preparation", "the preparation (e.g. atr, kbr_disc)", max_len=64)
+    preparation = sh.require_text(preparation, "preparation", "the preparation (e.g. atr-diamond)", max_len=64)
+    known = evaluator.known_preparations()
+    if preparation not in known:
+        raise InvalidInput(f"unknown preparation {preparation!r}",
+                           fields=[FieldProblem("preparation", "use one of " + ", ".join(known))])
     evaluator.read_spectrum(bytes(data), file_name=file_name)  # refuse an unreadable reference outright
     with UnitOfWork(engine) as uow:
         m = sh.material(uow.session, material_code)
