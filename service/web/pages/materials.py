@@ -7,7 +7,7 @@ from typing import Any
 from fastapi import APIRouter, Request
 from fastapi.responses import HTMLResponse, Response
 
-from service.errors import BandgateError
+from service.errors import BandgateError, UnusableInput
 from service.web.pages import _records, _signing, _spec_form
 from service.web.pages._auth import allow
 from service.web.pages._base import form_errors, need, render, see_other
@@ -244,7 +244,7 @@ async def reference_add(request: Request, code: str) -> Response:
             return see_other(f"/references/{ref.id}")
         except BandgateError as exc:
             errors = form_errors(exc, known=REF_FIELDS)
-            if list(errors) == ["_form"] and "read" in exc.message.lower():
+            if list(errors) == ["_form"] and isinstance(exc, UnusableInput):
                 errors = {"file": exc.message}
             ctx["message"] = exc.message
     ctx["errors"] = errors
