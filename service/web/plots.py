@@ -100,6 +100,7 @@ class SpectrumPlot:
     title: str = ""
     y_label: str = "Absorbance"
     required_label: str = "required window"
+    window: tuple[float, float] | None = None  # the range shown (cm⁻¹), e.g. the specification's range
     description: str = field(default="")  # accessible text; a default is composed if empty
 
 
@@ -197,6 +198,14 @@ def render_svg(plot: SpectrumPlot, *, width_in: float = 10.0, height_in: float =
 
         x_lo = float(sx[0] if ref is None else min(sx[0], ref[0][0]))
         x_hi = float(sx[-1] if ref is None else max(sx[-1], ref[0][-1]))
+        if plot.window is not None:
+            w_lo, w_hi = sorted(float(v) for v in plot.window)
+            if w_hi > max(w_lo, x_lo) and w_lo < x_hi:
+                x_lo, x_hi = max(x_lo, w_lo), min(x_hi, w_hi)
+
+        def shown(x: np.ndarray, y: np.ndarray) -> np.ndarray:
+            keep = (x >= x_lo) & (x <= x_hi)
+            return y[keep] if keep.any() else y
         handles: list = []
 
         if plot.fingerprint is not None:
@@ -225,17 +234,20 @@ def render_svg(plot: SpectrumPlot, *, width_in: float = 10.0, height_in: float =
         (sample_line,) = ax.plot(*_thin(sx, sy), color=SAMPLE, linewidth=1.4, label=plot.sample.label, zorder=2.5)
         handles.insert(0, sample_line)
 
+        visible = [shown(sx, sy)] + ([shown(*ref)] if ref is not None else [])
+        top = float(max(np.nanmax(v) for v in visible))
+        bottom = float(min(np.nanmin(v) for v in visible))
+        span = (top - bottom) or 1.0
+        ax.set_ylim(bottom - 0.05 * span, top + (0.32 if plot.bands else 0.08) * span)
         if plot.bands:
-            top = float(np.nanmax(sy)) if ref is None else float(max(np.nanmax(sy), np.nanmax(ref[1])))
-            bottom = float(np.nanmin(sy)) if ref is None else float(min(np.nanmin(sy), np.nanmin(ref[1])))
-            span = (top - bottom) or 1.0
             for b in plot.bands:
                 pos = float(b.position_cm1)
+                if not x_lo <= pos <= x_hi:
+                    continue
                 yv = float(np.interp(pos, sx, sy))
                 ax.plot([pos], [yv + 0.03 * span], marker="v", markersize=5, color=INK, linestyle="none", zorder=5)
                 ax.text(pos, yv + 0.06 * span, b.label or f"{pos:.1f}", rotation=90, ha="center", va="bottom",
                         fontsize=7.5, color=INK, zorder=5)
-            ax.set_ylim(bottom - 0.05 * span, top + 0.32 * span)
             handles.append(Line2D([], [], marker="v", color=INK, linestyle="none", markersize=5,
                                   label="band found (position, cm⁻¹)"))
 
@@ -247,6 +259,10 @@ def render_svg(plot: SpectrumPlot, *, width_in: float = 10.0, height_in: float =
         if axd is not None and diff is not None:
             axd.axhline(0.0, color=EXCLUDED, linewidth=0.6)
             (dline,) = axd.plot(*_thin(*diff), color=DIFFERENCE, linewidth=1.0, label="difference (sample − reference)")
+            dv = shown(*diff)
+            d_lo, d_hi = float(np.nanmin(dv)), float(np.nanmax(dv))
+            pad = 0.08 * ((d_hi - d_lo) or 1e-3)
+            axd.set_ylim(d_lo - pad, d_hi + pad)
             axd.set_ylabel("Difference")
             axd.set_xlabel("Wavenumber (cm⁻¹)")
             axd.grid(True, color="#d5d9de", linewidth=0.5)

@@ -111,3 +111,12 @@ def test_labels_are_escaped() -> None:
                                reference=None, required=(), forbidden=(), excluded=(), bands=()))
     ET.fromstring(svg)
     assert "<b>" not in svg
+
+
+def test_a_window_limits_the_axis_and_the_scale_to_the_specified_range() -> None:
+    x = np.linspace(400.0, 4000.0, 3601)
+    y = _gauss(x, 1600, 10, 0.5) + _gauss(x, 700, 10, 5.0)  # a huge band outside the range
+    svg = render_svg(SpectrumPlot(sample=Trace(x=x, y=y, label="s"), window=(800.0, 3200.0)))
+    texts = _texts(svg)
+    assert "3000" in texts and "4000" not in texts and "500" not in texts
+    assert "5" not in texts  # the y axis is not stretched by the band at 700 cm⁻¹

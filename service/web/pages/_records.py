@@ -108,17 +108,24 @@ def spectrum_plot(*, sample: Any, sample_label: str, reference: Any | None, refe
     required, forbidden, excluded = _windows(doc or {})
     bands = tuple(plots.BandMark(position_cm1=float(r["band_at"])) for r in criterion_rows(doc or {})
                   if r.get("band_at") is not None)
+    spec_range = ((doc or {}).get("specification") or {}).get("document", {}).get("range")
+    window = (float(min(spec_range)), float(max(spec_range))) if spec_range else None
     ref_trace = None
     if reference is not None:
         ry = np.asarray(reference.y, dtype=float)
         sy = np.asarray(sample.y, dtype=float)
-        scale = (np.nanmax(sy) / np.nanmax(ry)) if np.nanmax(ry) > 0 and np.nanmax(sy) > 0 else 1.0
+        lo, hi = window or (-np.inf, np.inf)
+        s_in = sy[(sample.x >= lo) & (sample.x <= hi)]
+        r_in = ry[(reference.x >= lo) & (reference.x <= hi)]
+        s_max = float(np.nanmax(s_in)) if s_in.size else float(np.nanmax(sy))
+        r_max = float(np.nanmax(r_in)) if r_in.size else float(np.nanmax(ry))
+        scale = (s_max / r_max) if r_max > 0 and s_max > 0 else 1.0
         ref_trace = plots.Trace(x=reference.x, y=ry * scale, label=reference_label +
                                 (f" (×{scale:.2f} to the sample's strongest band)" if abs(scale - 1) > 0.005 else ""))
     return plots.render_svg(plots.SpectrumPlot(
         sample=plots.Trace(x=sample.x, y=sample.y, label=sample_label), reference=ref_trace,
         required=required, forbidden=forbidden, excluded=excluded, bands=bands,
-        show_difference=show_difference and ref_trace is not None, title=title))
+        show_difference=show_difference and ref_trace is not None, title=title, window=window))
 
 
 def measurement_context(engine: Any, measurement_id: int, *, show_difference: bool = True) -> dict[str, Any]:
@@ -183,11 +190,11 @@ def lot_context(engine: Any, code: str, *, person: Person, with_plots: bool = Fa
         for m in failing:
             ctx = measurement_context(engine, m.id, show_difference=True)
             evidence.append(ctx)
-    roles = person.roles
+    may = person.may
     return {
         "lot": lot, "plan": lot.plan, "by_container": by_container, "failing": failing, "evidence": evidence,
         "changes": _changes_line(lot),
-        "can_upload": lot.state in ("quarantine", "testing") and "technician" in roles,
-        "can_review": lot.state == "awaiting_review" and "supervisor" in roles,
-        "can_dispose": lot.state == "awaiting_disposition" and "quality" in roles,
+        "can_upload": lot.state in ("quarantine", "testing") and "record_measurement" in may,
+        "can_review": lot.state == "awaiting_review" and "sign_review" in may,
+        "can_dispose": lot.state == "awaiting_disposition" and "sign_disposition" in may,
     }

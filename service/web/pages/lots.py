@@ -115,10 +115,13 @@ async def receive(request: Request) -> Response:
 
 
 @router.get("/lots/{code}", response_class=HTMLResponse, dependencies=[allow("view_records")])
-def lot_page(request: Request, code: str, received: int = 0) -> HTMLResponse:
+def lot_page(request: Request, code: str, received: int = 0, signed: str = "") -> HTMLResponse:
     person = need(request, "view_records")
     engine = request.app.state.engine
     ctx = _records.lot_context(engine, code, person=person)
     if received:
         ctx["flashes"] = [{"kind": "ok", "text": f"Lot {code} received into quarantine. Its sampling plan is below."}]
+    if signed in ("rejected", "released", "invalidated"):
+        ctx["flashes"] = [{"kind": "ok", "text": f"Your signature ({signed}) is recorded; it is shown below with "
+                                                 "your printed name, the time and its meaning."}]
     return render(request, "lot.html", ctx, person=person, nav="queue")
