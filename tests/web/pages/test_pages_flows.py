@@ -1,0 +1,63 @@
+"""Signed steps through the pages: invalidate with a cause (retest allowed), QA release; queues by role."""
+
+from __future__ import annotations
+
+from datetime import date
+
+from conftest import Site, csrf
+from pages_lab import PASSWORD, PEOPLE, failing_upload, passing_upload
+from service import services as uc
+
+
+def _lot_with(site: Site, uploads: list[bytes]) -> str:
+    tech = uc.get_actor(site.engine, PEOPLE["tech"].username)
+    code = uc.receive_lot(site.engine, tech, material_code="TOL-01", supplier_name="Northwind Solvents",
+                          supplier_lot="NS-5", containers=len(uploads), received_on=date(2026, 12, 1)).code
+    for i, data in enumerate(uploads, start=1):
+        uc.record_measurement(site.engine, tech, lot_code=code, container=i, instrument_code="FTIR-1",
+                              data=data, file_name=f"c{i}.csv")
+    return code
+
+
+def _sign(client, path: str, who: str, reason: str, **extra: str):  # type: ignore[no-untyped-def]
+    html, token = csrf(client, path)
+    data = {"csrf_token": token, "reason": reason, "username": PEOPLE[who].username, "password": PASSWORD, **extra}
+    return html, client.post(path.split("?")[0], data=data)
+
+
+def test_invalidating_a_measurement_is_signed_and_the_record_says_so(lab_site: Site) -> None:
+    code = _lot_with(lab_site, [passing_upload(), failing_upload()])
+    failing = [m for m in uc.get_lot(lab_site.engine, code).measurements if m.verdict == "fail"][0]
+    sup = lab_site.client("sup")
+    review = sup.get(f"/lots/{code}/review").text
+    assert f"/lots/{code}/review/invalidate?measurement={failing.id}" in review
+    html, r = _sign(sup, f"/lots/{code}/review/invalidate?measurement={failing.id}", "sup",
+                    "ATR crystal not cleaned after the previous sample (lab note 14)", measurement=str(failing.id))
+    assert "I set this measurement aside" in html
+    assert r.status_code == 303, r.text[:2000]
+    lot = uc.get_lot(lab_site.engine, code)
+    assert lot.state == "testing"  # the container may be retested
+    page = sup.get(f"/lots/{code}").text
+    assert "invalidated" in page and "lab note 14" in page
+    assert "set aside after first entry" in page  # the changes line says so
+    assert PEOPLE["sup"].printed_name in page  # with the signature's manifestation
+
+
+def test_quality_releases_a_conforming_lot_with_a_signature(lab_site: Site) -> None:
+    code = _lot_with(lab_site, [passing_upload()])
+    assert uc.get_lot(lab_site.engine, code).state == "awaiting_disposition"
+    qa = lab_site.client("qa")
+    queue = qa.get("/").text
+    assert code in queue.split('id="q-awaiting_disposition"')[1]
+    assert "Release lot" in qa.get(f"/lots/{code}/disposition").text
+    html, r = _sign(qa, f"/lots/{code}/disposition/release", "qa", "")
+    assert "I release this lot" in html
+    assert r.status_code == 303, r.text[:2000]
+    page = qa.get(f"/lots/{code}").text
+    assert "released by QA" in page and PEOPLE["qa"].printed_name in page
+
+
+def test_search_finds_a_lot_by_supplier_lot(lab_site: Site) -> None:
+    code = _lot_with(lab_site, [passing_upload()])
+    page = lab_site.client("tech").get("/?q=NS-5").text
+    assert f'href="/lots/{code}"' in page.split("Lots matching")[1]
