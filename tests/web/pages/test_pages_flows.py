@@ -4,6 +4,8 @@ from __future__ import annotations
 
 from datetime import date
 
+import pytest
+
 from conftest import Site, csrf
 from pages_lab import PASSWORD, PEOPLE, failing_upload, passing_upload
 from service import services as uc
@@ -61,3 +63,14 @@ def test_search_finds_a_lot_by_supplier_lot(lab_site: Site) -> None:
     code = _lot_with(lab_site, [passing_upload()])
     page = lab_site.client("tech").get("/?q=NS-5").text
     assert f'href="/lots/{code}"' in page.split("Lots matching")[1]
+
+
+@pytest.mark.postgres
+def test_review_rejection_through_the_pages_on_postgresql(lab_site_pg: Site) -> None:
+    code = _lot_with(lab_site_pg, [passing_upload(), failing_upload()])
+    sup = lab_site_pg.client("sup")
+    _, r = _sign(sup, f"/lots/{code}/review/reject", "sup", "heptanes delivered as toluene")
+    assert r.status_code == 303, r.text[:2000]
+    lot = uc.get_lot(lab_site_pg.engine, code)
+    assert lot.state == "rejected" and lot.signatures[0].printed_name == PEOPLE["sup"].printed_name
+    assert uc.verify_audit(lab_site_pg.engine).ok
