@@ -189,12 +189,17 @@ def render_svg(plot: SpectrumPlot, *, width_in: float = 10.0, height_in: float =
     height = height_in + (1.6 if with_diff else 0.0)
 
     with matplotlib.rc_context(_RC):
-        fig = Figure(figsize=(width_in, height), dpi=96, layout="constrained")
+        fig = Figure(figsize=(width_in, height), dpi=96)  # fixed margins: constrained layout costs a 2nd draw
         FigureCanvasSVG(fig)
+        n_keys = 2 + bool(plot.reference) + bool(plot.required) + bool(plot.forbidden) + bool(plot.excluded) \
+            + bool(plot.bands) + bool(with_diff)
+        legend_in = 0.62 + 0.2 * ((n_keys + 3) // 4)
+        grid = dict(left=0.8 / width_in, right=1 - 0.15 / width_in, top=1 - (0.42 if plot.title else 0.15) / height,
+                    bottom=legend_in / height, hspace=0.08)
         if with_diff:
-            ax, axd = fig.subplots(2, 1, sharex=True, height_ratios=[3.2, 1.0])
+            ax, axd = fig.subplots(2, 1, sharex=True, height_ratios=[3.2, 1.0], gridspec_kw=grid)
         else:
-            ax, axd = fig.subplots(1, 1), None
+            ax, axd = fig.subplots(1, 1, gridspec_kw=grid), None
 
         x_lo = float(sx[0] if ref is None else min(sx[0], ref[0][0]))
         x_hi = float(sx[-1] if ref is None else max(sx[-1], ref[0][-1]))
@@ -269,8 +274,8 @@ def render_svg(plot: SpectrumPlot, *, width_in: float = 10.0, height_in: float =
             handles.append(dline)
         else:
             ax.set_xlabel("Wavenumber (cm⁻¹)")
-        fig.legend(handles=handles, loc="outside lower center", ncols=min(4, len(handles)), frameon=False,
-                   fontsize=8.5)
+        fig.legend(handles=handles, loc="lower center", bbox_to_anchor=(0.5, 0.0), ncols=min(4, len(handles)),
+                   frameon=False, fontsize=8.5)
 
         buf = io.StringIO()
         fig.savefig(buf, format="svg", metadata={"Date": None, "Creator": None})
