@@ -7,6 +7,7 @@ line that says whether anything changed after first entry.
 
 from __future__ import annotations
 
+from collections import OrderedDict
 from typing import Any
 
 import numpy as np
@@ -16,6 +17,8 @@ from service.web import plots
 from service.web.pages._base import Person
 
 FINGERPRINT = plots.FINGERPRINT_CM1
+_PLOT_CACHE: "OrderedDict[tuple[Any, ...], str]" = OrderedDict()
+_PLOT_CACHE_SIZE = 64  # figures of immutable records (stored bytes + stored evaluation), so never stale
 
 
 def actor(person: Person) -> Any:
@@ -147,15 +150,23 @@ def measurement_context(engine: Any, measurement_id: int, *, show_difference: bo
         ctx["spec"] = spec_uc.get_spec_version(engine, ev.spec_version_id)
     except BandgateError:
         ctx["spec"] = None
+    key = (str(engine.url), m.id, m.sha256, ev.id, ev.reference_id, show_difference)
     try:
         ref_view, ref_bytes = spec_uc.reference_file(engine, ev.reference_id)
         ctx["reference"] = ref_view
+        if key in _PLOT_CACHE:
+            _PLOT_CACHE.move_to_end(key)
+            ctx["plot"] = _PLOT_CACHE[key]
+            return ctx
         sample = _absorbance(data, m.file_name)
         reference = _absorbance(ref_bytes, ref_view.file_name)
         ctx["plot"] = spectrum_plot(
             sample=sample, sample_label=f"sample, container {m.container} (measurement {m.id})",
             reference=reference, reference_label=f"reference {ref_view.id} ({ref_view.preparation})",
             doc=doc, show_difference=show_difference)
+        _PLOT_CACHE[key] = ctx["plot"]
+        if len(_PLOT_CACHE) > _PLOT_CACHE_SIZE:
+            _PLOT_CACHE.popitem(last=False)
     except (BandgateError, plots.PlotError, ValueError) as exc:
         ctx["plot_error"] = f"the plot cannot be drawn: {getattr(exc, 'message', exc)}"
     return ctx
