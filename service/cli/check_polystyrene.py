@@ -41,6 +41,7 @@ def _check(args: argparse.Namespace) -> int:
             "points": spectrum.n_points,
             "range_cm1": list(spectrum.range_cm1),
             "y_kind": spectrum.kind.value,
+            "notes": list(spectrum.notes),
             **result.as_dict(),
         }
         print(json.dumps(out, indent=2, ensure_ascii=False))

@@ -8,25 +8,43 @@ lines each on the hot path.
 
 from __future__ import annotations
 
+from dataclasses import replace
 from functools import lru_cache
 
 import numpy as np
 from numpy.typing import NDArray
 
-from service.spectra import Band, SavitzkyGolay, baseline_asls, baseline_rubberband, find_bands
+from service.spectra import Band, BandClasses, SavitzkyGolay, baseline_rubberband, find_bands
 
 F64 = NDArray[np.float64]
 
-__all__ = ["Band", "bands_in_window", "baseline", "centred_unit", "noise_rms", "savgol_derivative", "unit"]
+__all__ = ["Band", "all_bands", "baseline", "centred_unit", "noise_rms", "savgol_derivative", "unit"]
 
 
-def baseline(x: F64, y: F64, *, method: str, lam: float, p: float) -> F64:
-    """The baseline under ``y``: asymmetric least squares (Eilers & Boelens 2005), rubber band, or none (zeros)."""
+def baseline(x: F64, y: F64, *, method: str, lam: float, p: float, stride: int = 1) -> F64:
+    """The baseline under ``y``: asymmetric least squares (Eilers & Boelens 2005), rubber band, or none (zeros).
+
+    With ``stride`` > 1 the least-squares baseline is fitted to every ``stride``-th point with the
+    penalty scaled by ``stride⁻⁴`` (the second-difference penalty per point grows with the fourth
+    power of the spacing) and interpolated back: a baseline this stiff varies over far more
+    points than the stride, and the fit costs ``stride`` times less.
+    """
     if method == "asls":
-        return baseline_asls(y, lam=lam, p=p).baseline
+        ys = y[::stride]
+        base, _ = _asls_solver(ys.size).asls(ys, lam=lam / stride**4, p=p)
+        base = np.asarray(base, dtype=np.float64)
+        return base if stride == 1 else np.interp(x, x[::stride], base)
     if method == "rubberband":
         return baseline_rubberband(x, y).baseline
     return np.zeros_like(y)
+
+
+@lru_cache(maxsize=32)
+def _asls_solver(n: int):  # type: ignore[no-untyped-def]
+    """One pybaselines fitter per grid size: its set-up is then paid once, not per spectrum."""
+    from pybaselines import Baseline
+
+    return Baseline(x_data=np.arange(n, dtype=np.float64))
 
 
 @lru_cache(maxsize=32)
@@ -39,29 +57,31 @@ def savgol_derivative(y: F64, *, window: int, polyorder: int, step: float) -> F6
     return _savgol(window, polyorder).apply(y, step)
 
 
-def bands_in_window(x: F64, y: F64, *, lo: float, hi: float, reference_height: float,
-                    min_relative_prominence: float = 0.01) -> list[Band]:
-    """Bands whose maximum lies inside ``lo``–``hi``, strongest first.
+def all_bands(x: F64, y: F64, keep: NDArray[np.bool_], *, detection_floor: float
+              ) -> tuple[tuple[Band, ...], float]:
+    """Every band of ``y`` whose maximum lies where ``keep`` is true, and the strongest one's height.
 
-    The search runs over the window widened on both sides (by the window's width, at least
-    60 cm⁻¹), so a broad band filling a narrow window keeps its true local baseline; bands whose
-    maximum falls outside the window are then dropped.
+    One prominence search over the whole grid (so each band's local baseline is the standard
+    prominence base); bands lower than ``detection_floor`` × the highest value are not counted.
+    Relative intensities and the strong/medium/weak words are against the strongest kept band.
     """
-    if reference_height <= 0:
-        return []
-    pad = max(60.0, hi - lo)
-    found = find_bands(x, y, window=(max(lo - pad, float(x[0])), min(hi + pad, float(x[-1]))),
-                       min_prominence=min_relative_prominence * reference_height, reference_height=reference_height)
-    inside = [b for b in found if lo <= b.position_cm1 <= hi]
-    inside.sort(key=lambda b: -b.height)
-    return inside
-
-
-def strongest_band_height(x: F64, y: F64, keep: NDArray[np.bool_], *, min_prominence: float) -> float:
-    """Height (above its local baseline) of the strongest band whose maximum lies where ``keep`` is true."""
-    found = find_bands(x, y, min_prominence=min_prominence)
-    heights = [b.height for b in found if keep[b.index]]
-    return max(heights) if heights else 0.0
+    peak = float(y[keep].max()) if keep.any() else float(y.max())
+    if not peak > 0:
+        return (), 0.0
+    every = find_bands(x, y, min_prominence=detection_floor * peak)
+    found = [b for b in every if keep[b.index]]
+    if not found:
+        return (), 0.0
+    ref = max(b.height for b in found)
+    if ref == max(b.height for b in every):  # the core already measured against this band
+        return tuple(found), ref
+    classes = BandClasses()
+    out = []
+    for b in found:
+        rel = b.height / ref
+        strength = "strong" if rel >= classes.strong else "medium" if rel >= classes.medium else "weak"
+        out.append(replace(b, relative_intensity=rel, strength=strength))
+    return tuple(out), ref
 
 
 def noise_rms(x: F64, y: F64, *, lo: float = 2000.0, hi: float = 2200.0) -> float | None:

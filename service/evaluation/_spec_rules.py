@@ -97,7 +97,8 @@ def check_document(doc: Any, problems: list[FieldProblem]) -> Specification | No
 
     material = None
     if "material" in doc:
-        material = doc["material"] if isinstance(doc["material"], str) and MATERIAL_CODE.match(doc["material"]) else None
+        value = doc["material"]
+        material = value if isinstance(value, str) and MATERIAL_CODE.match(value) else None
         if material is None:
             c.bad("material", "must be a material code of 1–64 letters, digits, '.', '_' or '-' (e.g. EXC-104)")
     name = c.text(doc["name"], "name") if "name" in doc else None
@@ -234,7 +235,8 @@ def _required_band(c: _Checker, item: Any, path: str, rng: tuple[float, float] |
 
 def _forbidden_band(c: _Checker, item: Any, path: str, rng: tuple[float, float] | None) -> ForbiddenBand | None:
     if not isinstance(item, dict):
-        c.bad(path, 'must be an object such as {"label": ..., "from": 1760, "to": 1690, "max_relative_intensity": 0.05}')
+        c.bad(path, 'must be an object such as '
+                    '{"label": ..., "from": 1760, "to": 1690, "max_relative_intensity": 0.05}')
         return None
     c.keys(item, FORBIDDEN_BAND_KEYS, path)
     n0 = len(c.problems)
@@ -252,7 +254,8 @@ def _check_overlaps(c: _Checker, doc: dict[str, Any], required: list[BandRule], 
     for j, f in enumerate(forbidden):
         for i, r in enumerate(required):
             if r.window[0] < f.window[1] and f.window[0] < r.window[1]:
-                c.bad(f"forbidden_bands[{j}]", f"its window {f.window[1]:g}–{f.window[0]:g} overlaps required_bands[{i}] "
+                c.bad(f"forbidden_bands[{j}]",
+                      f"its window {f.window[1]:g}–{f.window[0]:g} overlaps required_bands[{i}] "
                       f"({r.window[1]:g}–{r.window[0]:g}); a region cannot both require and forbid a band: narrow one")
 
 

@@ -17,21 +17,21 @@ from service.evaluation.method import Prepared
 from service.evaluation.result import Criterion, Notice
 from service.evaluation.specification import BandRule, ForbiddenBand
 
-__all__ = ["EDGE_WARNING_CM1", "DETECTION_FLOOR", "judge_required", "judge_forbidden", "bands_outside_exclusions"]
+__all__ = ["EDGE_WARNING_CM1", "bands_outside_exclusions", "judge_forbidden", "judge_required"]
 
 EDGE_WARNING_CM1 = 2.0
-DETECTION_FLOOR = 0.01  # smallest prominence counted as a band, as a fraction of the strongest band
 
 
 def bands_outside_exclusions(p: Prepared, lo: float, hi: float) -> list[k.Band]:
-    found = k.bands_in_window(p.method.grid, p.final, lo=lo, hi=hi, reference_height=p.reference_height,
-                              min_relative_prominence=DETECTION_FLOOR)
-    return [b for b in found if not any(a <= b.position_cm1 <= z for a, z in p.method.excluded)]
+    """Bands of the prepared spectrum with their maximum inside ``lo``–``hi``, strongest first."""
+    found = [b for b in p.bands if lo <= b.position_cm1 <= hi]
+    found.sort(key=lambda b: -b.height)
+    return found
 
 
 def _band_details(b: k.Band) -> dict[str, Any]:
     return {"position_cm1": round(b.position_cm1, 2), "relative_intensity": b.relative_intensity,
-            "height_absorbance": b.height, "width_cm1": round(b.fwhm_cm1, 1), "strength": b.strength,
+            "height_prepared": b.height, "width_cm1": round(b.fwhm_cm1, 1), "strength": b.strength,
             "shape": b.shape, "position_method": b.position_method}
 
 
@@ -115,7 +115,8 @@ def judge_forbidden(p: Prepared, rule: ForbiddenBand) -> tuple[Criterion, list[N
     else:
         msg = f"no band between {hi:g} and {lo:g} cm⁻¹ (strongest absorbance there {strongest:.3g} at {where:.0f} cm⁻¹)"
     notices = []
-    if found and measured >= 0.5 * rule.max_relative_intensity and min(found[0].position_cm1 - lo, hi - found[0].position_cm1) <= EDGE_WARNING_CM1:
+    near_edge = bool(found) and min(found[0].position_cm1 - lo, hi - found[0].position_cm1) <= EDGE_WARNING_CM1
+    if near_edge and measured >= 0.5 * rule.max_relative_intensity:
         notices.append(Notice(code="band-near-window-edge",
                               message=f"{rule.label}: band at {found[0].position_cm1:.1f} cm⁻¹ lies within "
                                       f"{EDGE_WARNING_CM1:g} cm⁻¹ of the forbidden window's edge"))

@@ -15,7 +15,16 @@ from typing import Any
 from service import __version__
 from service.evaluation.criteria import judge_forbidden, judge_required
 from service.evaluation.library import ReferenceLibrary
-from service.evaluation.method import Method, Prepared, RangeNotCovered, as_absorbance, prepare, score, spectrum_data_digest
+from service.evaluation.method import (
+    Method,
+    Prepared,
+    RangeNotCovered,
+    as_absorbance,
+    prepare,
+    score,
+    spectrum_data_digest,
+    spectrum_spacing,
+)
 from service.evaluation.result import Criterion, Evaluation, Match, Notice
 from service.evaluation.sample_quality import judge_quality
 from service.evaluation.specification import Specification
@@ -121,7 +130,7 @@ def evaluate(sample: Spectrum, spec: Specification, reference: Spectrum, library
         invalid.append(Notice(code="wrong-range", message=f"sample: {exc}; measure over the full range"))
 
     matches: tuple[Match, ...] | None = None
-    s_step, r_step = sample.spacing_cm1, reference.spacing_cm1
+    s_step, r_step = spectrum_spacing(sample), spectrum_spacing(reference)
     if prepared is not None:
         q_criteria, q_warnings, q_invalid = judge_quality(absorbance, prepared, spec)
         criteria += q_criteria
@@ -194,7 +203,8 @@ def _specificity(prepared: Prepared, own: float, spec: Specification, library: R
         measured = own - best.score if higher else best.score - own
         msg = (f"{best.material} scores {best.score:.4f}, {'at least as well as' if mixed else 'below'} the "
                f"specified reference ({own:.4f})" if higher else
-               f"{best.material} lies at distance {best.score:.4f}, {'as close as or closer than' if mixed else 'further than'} "
+               f"{best.material} lies at distance {best.score:.4f}, "
+               f"{'as close as or closer than' if mixed else 'further than'} "
                f"the specified reference ({own:.4f})")
         if mixed:
             msg = f"possible mix-up: {msg}"

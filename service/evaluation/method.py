@@ -17,7 +17,7 @@ from __future__ import annotations
 import hashlib
 import weakref
 from dataclasses import dataclass
-from functools import cached_property
+from functools import cached_property, lru_cache
 from typing import Any
 
 import numpy as np
@@ -25,11 +25,16 @@ from numpy.typing import NDArray
 
 from service.evaluation import _kernels as k
 from service.evaluation.specification import Specification
+from service.spectra import to_absorbance
 from service.spectra.model import Spectrum, YKind
 
-__all__ = ["Method", "Prepared", "RangeNotCovered", "finish", "metric_vector", "prepare", "score", "spectrum_data_digest"]
+__all__ = ["Method", "Prepared", "RangeNotCovered", "finish", "metric_vector", "prepare", "score",
+           "spectrum_data_digest", "spectrum_spacing"]
 
 F64 = NDArray[np.float64]
+
+
+DETECTION_FLOOR = 0.01  # smallest prominence counted as a band, as a fraction of the highest absorbance
 
 
 class RangeNotCovered(ValueError):
@@ -46,6 +51,7 @@ class Method:
     baseline: str = "asls"
     asls_lam: float = 1e6
     asls_p: float = 0.01
+    asls_stride: int = 2
     atr_correction: bool = False
     atr_reference_cm1: float = 1000.0
     metric: str = "pearson"
@@ -56,6 +62,13 @@ class Method:
 
     @classmethod
     def for_specification(cls, spec: Specification, **overrides: Any) -> "Method":
+        """The method a specification implies (remembered per specification when there are no overrides)."""
+        if not overrides:
+            return _method_for(spec)
+        return cls._build(spec, **overrides)
+
+    @classmethod
+    def _build(cls, spec: Specification, **overrides: Any) -> "Method":
         from service.evaluation.preparations import PREPARATIONS
 
         lo, hi = spec.window
@@ -106,7 +119,8 @@ class Method:
             "absorbance": "A = -log10(T) for transmittance input",
             "range_cm1": [self.hi, self.lo],
             "resampling": {"method": "linear interpolation", "step_cm1": self.step, "points": int(self.grid.size)},
-            "atr_correction": ({"method": "penetration-depth scaling A·ν̃/ν̃_ref", "reference_cm1": self.atr_reference_cm1}
+            "atr_correction": ({"method": "penetration-depth scaling A·ν̃/ν̃_ref",
+                                "reference_cm1": self.atr_reference_cm1}
                                if self.atr_correction else None),
             "baseline": {"method": self.baseline},
             "metric": self.metric,
@@ -114,12 +128,16 @@ class Method:
             "excluded_regions_cm1": [[hi, lo] for lo, hi in self.excluded],
             "compared_points": int(self.compared.size),
             "band_position": "3-point parabola through the maximum",
-            "band_width": "full width at half prominence",
-            "relative_intensity": "baseline-corrected height / strongest band in the evaluated range (outside exclusions)",
+            "band_width": "full width at half height above the local (prominence) baseline",
+            "band_detection_floor": f"prominence >= {DETECTION_FLOOR:g} x the highest corrected absorbance",
+            "relative_intensity": "band height / height of the strongest band in the evaluated range "
+                                  "(outside exclusions)",
         }
         if self.baseline == "asls":
             out["baseline"].update({"name": "asymmetric least squares (Eilers & Boelens 2005, pybaselines)",
-                                    "lam": self.asls_lam, "p": self.asls_p})
+                                    "lam": self.asls_lam, "p": self.asls_p,
+                                    "fitted_every_nth_point": self.asls_stride,
+                                    "lam_on_fitted_points": self.asls_lam / self.asls_stride**4})
         elif self.baseline == "rubberband":
             out["baseline"]["name"] = "rubber band (lower convex hull)"
         if self.metric == "first-derivative":
@@ -132,6 +150,11 @@ class Method:
         return out
 
 
+@lru_cache(maxsize=128)
+def _method_for(spec: Specification) -> Method:
+    return Method._build(spec)
+
+
 @dataclass(frozen=True, eq=False, kw_only=True)
 class Prepared:
     """A spectrum after the method: on the grid, baseline-corrected, with its metric vector."""
@@ -142,10 +165,21 @@ class Prepared:
     final: F64  # after the ATR correction (= corrected when there is none): bands and metric use this
     vector: F64  # the metric's vector over `method.compared`
     reference_height: float  # height of the strongest band (above its local baseline) outside exclusions
+    bands: tuple[k.Band, ...]  # every band outside the exclusions, ascending wavenumber
     data_sha256: str
 
 
-_digests: "weakref.WeakKeyDictionary[Spectrum, str]" = weakref.WeakKeyDictionary()
+_facts: "weakref.WeakKeyDictionary[Spectrum, tuple[str, float]]" = weakref.WeakKeyDictionary()
+
+
+def _spectrum_facts(s: Spectrum) -> tuple[str, float]:
+    found = _facts.get(s)
+    if found is None:
+        h = hashlib.sha256(s.kind.value.encode())
+        h.update(np.ascontiguousarray(s.x, dtype="<f8").tobytes())
+        h.update(np.ascontiguousarray(s.y, dtype="<f8").tobytes())
+        found = _facts[s] = (h.hexdigest(), s.spacing_cm1)
+    return found
 
 
 def spectrum_data_digest(s: Spectrum) -> str:
@@ -153,40 +187,17 @@ def spectrum_data_digest(s: Spectrum) -> str:
 
     Spectra are immutable, so the digest is remembered per object.
     """
-    found = _digests.get(s)
-    if found is None:
-        h = hashlib.sha256(s.kind.value.encode())
-        h.update(np.ascontiguousarray(s.x, dtype="<f8").tobytes())
-        h.update(np.ascontiguousarray(s.y, dtype="<f8").tobytes())
-        found = _digests[s] = h.hexdigest()
-    return found
+    return _spectrum_facts(s)[0]
+
+
+def spectrum_spacing(s: Spectrum) -> float:
+    """Median point spacing (cm⁻¹), remembered per object like the digest."""
+    return _spectrum_facts(s)[1]
 
 
 def as_absorbance(s: Spectrum) -> Spectrum:
-    """The spectrum in absorbance (A = −log10 T); a spectrum already in absorbance is returned as is."""
-    if s.kind is YKind.absorbance:
-        return s
-    try:
-        from service.spectra import to_absorbance  # type: ignore[attr-defined]
-    except ImportError:  # the reader branch provides it; until then the definition itself
-        to_absorbance = _to_absorbance
-    return to_absorbance(s)  # type: ignore[no-any-return]
-
-
-def _to_absorbance(s: Spectrum) -> Spectrum:
-    from service.spectra.model import SpectrumError
-
-    if s.kind is YKind.transmittance:
-        t = s.y
-    elif s.kind is YKind.percent_transmittance:
-        t = s.y / 100.0
-    else:
-        raise SpectrumError(f"a {s.kind.value} spectrum cannot be converted to absorbance; measure in "
-                            "transmittance or absorbance")
-    clipped = np.clip(t, 1e-6, None)
-    note = "converted to absorbance (A = -log10 T)" + (
-        f"; {int((t <= 0).sum())} non-positive transmittance value(s) clipped" if (t <= 0).any() else "")
-    return s.with_values(-np.log10(clipped), YKind.absorbance, note=note)
+    """The spectrum in absorbance (A = −log10 T, by the core's conversion); absorbance is returned as is."""
+    return s if s.kind is YKind.absorbance else to_absorbance(s)
 
 
 def prepare(spectrum: Spectrum, method: Method, *, data_sha256: str | None = None) -> Prepared:
@@ -201,7 +212,8 @@ def prepare(spectrum: Spectrum, method: Method, *, data_sha256: str | None = Non
     tol = method.coverage_tolerance
     if s.x[0] > method.lo + tol or s.x[-1] < method.hi - tol:
         raise RangeNotCovered(
-            f"the spectrum covers {s.x[-1]:.0f}–{s.x[0]:.0f} cm⁻¹ but the method needs {method.hi:g}–{method.lo:g} cm⁻¹")
+            f"the spectrum covers {s.x[-1]:.0f}–{s.x[0]:.0f} cm⁻¹ but the method needs "
+            f"{method.hi:g}–{method.lo:g} cm⁻¹")
     y = np.interp(method.grid, s.x, s.y)
     return finish(y, method, data_sha256 or spectrum_data_digest(spectrum))
 
@@ -209,16 +221,15 @@ def prepare(spectrum: Spectrum, method: Method, *, data_sha256: str | None = Non
 def finish(y: F64, method: Method, digest: str = "") -> Prepared:
     """The method's steps after resampling, for absorbance ``y`` already on ``method.grid``."""
     grid = method.grid
-    corrected = y - k.baseline(grid, y, method=method.baseline, lam=method.asls_lam, p=method.asls_p)
+    corrected = y - k.baseline(grid, y, method=method.baseline, lam=method.asls_lam, p=method.asls_p,
+                               stride=method.asls_stride)
     final = corrected * (grid / method.atr_reference_cm1) if method.atr_correction else corrected
-    keep = ~method.excluded_mask
-    peak = float(final[keep].max()) if keep.any() else float(final.max())
-    reference_height = k.strongest_band_height(grid, final, keep, min_prominence=max(peak, 1e-12) * 0.01)
+    bands, reference_height = k.all_bands(grid, final, ~method.excluded_mask, detection_floor=DETECTION_FLOOR)
     vector = metric_vector(final, method)
     for a in (y, corrected, final, vector):
         a.setflags(write=False)
     return Prepared(method=method, resampled=y, corrected=corrected, final=final, vector=vector,
-                    reference_height=reference_height, data_sha256=digest)
+                    reference_height=reference_height, bands=bands, data_sha256=digest)
 
 
 def metric_vector(corrected: F64, method: Method) -> F64:

@@ -8,12 +8,15 @@ failed; suspicious but usable findings become warnings.
 
 from __future__ import annotations
 
+from functools import lru_cache
+
 import numpy as np
 
 from service.evaluation import _kernels as k
 from service.evaluation.method import Prepared
 from service.evaluation.result import Criterion, Notice
 from service.evaluation.specification import Specification
+from service.spectra import QualityLimits, SavitzkyGolay
 from service.spectra.model import Spectrum
 
 __all__ = ["MIN_SIGNAL_TO_NOISE", "NOISE_REGION_CM1", "judge_quality"]
@@ -21,6 +24,47 @@ __all__ = ["MIN_SIGNAL_TO_NOISE", "NOISE_REGION_CM1", "judge_quality"]
 MIN_SIGNAL_TO_NOISE = 30.0  # strongest band height / RMS noise (common practice: bands far above the noise)
 NOISE_REGION_CM1 = (2000.0, 2200.0)  # band-free for most organics (common practice)
 NEGATIVE_BAND_FRACTION = 0.10
+WATER_VAPOUR_REGION_CM1 = (3650.0, 3950.0)  # rotation-vibration lines, above the sample O–H bands
+MAX_WATER_VAPOUR = QualityLimits().max_water_vapour  # sharp-line residual / strongest band (the core's default)
+
+
+def _highest(x: np.ndarray, y: np.ndarray, lo: float, hi: float, excluded: tuple[tuple[float, float], ...]
+             ) -> tuple[float, float]:
+    """Highest value (and where) of the original points in ``lo``–``hi`` outside the excluded intervals."""
+    edges = sorted((a, b) for a, b in excluded if b > lo and a < hi)
+    best, where, start = -np.inf, float("nan"), lo
+    for a, b in edges + [(hi, hi)]:
+        i0, i1 = int(np.searchsorted(x, start)), int(np.searchsorted(x, a, side="right"))
+        if i1 > i0:
+            k = i0 + int(np.argmax(y[i0:i1]))
+            if y[k] > best:
+                best, where = float(y[k]), float(x[k])
+        start = max(start, b)
+    return (best if np.isfinite(best) else float("nan")), where
+
+
+@lru_cache(maxsize=16)
+def _smoother(window: int) -> SavitzkyGolay:
+    return SavitzkyGolay(window=window, polyorder=2)
+
+
+def _water_vapour(x: np.ndarray, y: np.ndarray, noise: float, signal: float, lo: float, hi: float) -> float | None:
+    """Sharp-line residual (values minus a ~25 cm⁻¹ Savitzky–Golay smooth) beyond the noise, per strongest band.
+
+    The same measure as the spectral core's quality report, on the vapour region only.
+    """
+    a, b = max(WATER_VAPOUR_REGION_CM1[0], lo), min(WATER_VAPOUR_REGION_CM1[1], hi)
+    i0, i1 = int(np.searchsorted(x, a)), int(np.searchsorted(x, b, side="right"))
+    if i1 - i0 < 30 or signal <= 0:
+        return None
+    step = float(x[i1 - 1] - x[i0]) / (i1 - i0 - 1)
+    window = max(5, int(round(25.0 / step)) | 1)
+    if window >= i1 - i0 or step > 8.0:
+        return None
+    seg = y[i0:i1]
+    resid = seg - _smoother(window).apply(seg)
+    rms = float(np.sqrt(np.mean(resid * resid)))
+    return float(np.sqrt(max(0.0, rms * rms - noise * noise))) / signal
 
 
 def judge_quality(absorbance: Spectrum, prepared: Prepared, spec: Specification
@@ -31,11 +75,7 @@ def judge_quality(absorbance: Spectrum, prepared: Prepared, spec: Specification
     warnings: list[Notice] = []
     invalid: list[Notice] = []
     x, y = absorbance.x, absorbance.y
-    sel = (x >= method.lo) & (x <= method.hi)
-    for lo, hi in method.excluded:
-        sel &= ~((x >= lo) & (x <= hi))
-    top = float(y[sel].max()) if sel.any() else float("nan")
-    top_at = float(x[sel][int(np.argmax(y[sel]))]) if sel.any() else float("nan")
+    top, top_at = _highest(x, y, method.lo, method.hi, method.excluded)
     q = spec.quality
     ok = top <= q.max_absorbance
     criteria.append(Criterion(
@@ -78,6 +118,13 @@ def judge_quality(absorbance: Spectrum, prepared: Prepared, spec: Specification
             invalid.append(Notice(code="too-noisy", message=(
                 f"signal-to-noise {snr:.0f} is below {MIN_SIGNAL_TO_NOISE:g}: co-add more scans or improve contact, "
                 "and measure again")))
+
+    vapour = _water_vapour(x, y, noise or 0.0, signal, method.lo, method.hi)
+    if vapour is not None and vapour > MAX_WATER_VAPOUR:
+        warnings.append(Notice(code="water-vapour", message=(
+            f"water-vapour lines in {WATER_VAPOUR_REGION_CM1[1]:g}–{WATER_VAPOUR_REGION_CM1[0]:g} cm⁻¹ reach "
+            f"{100 * vapour:.1f} % of the strongest band (limit {100 * MAX_WATER_VAPOUR:g} %): they also fall "
+            "across 1900–1350 cm⁻¹; purge the instrument longer or record a fresh background")))
 
     low = float(prepared.corrected[keep].min()) if keep.any() else 0.0
     if signal > 0 and low < -NEGATIVE_BAND_FRACTION * signal:

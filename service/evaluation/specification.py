@@ -188,8 +188,12 @@ class Specification:
 
     def digest(self) -> str:
         """SHA-256 of the canonical document (sorted keys, compact), to tie a result to its specification."""
-        text = json.dumps(self.as_document(), sort_keys=True, separators=(",", ":"), ensure_ascii=False)
-        return hashlib.sha256(text.encode("utf-8")).hexdigest()
+        found = self.__dict__.get("_digest")
+        if found is None:  # frozen: remembered once, outside the fields
+            text = json.dumps(self.as_document(), sort_keys=True, separators=(",", ":"), ensure_ascii=False)
+            found = hashlib.sha256(text.encode("utf-8")).hexdigest()
+            object.__setattr__(self, "_digest", found)
+        return found
 
 
 def parse_specification(doc: Any) -> Specification:

@@ -1,8 +1,13 @@
 """PURE spectral core: Spectrum model, readers and writers, conversion, quality, preprocessing,
 band measurement, similarity and instrument checks. Imports nothing from the web or the database."""
 
+from service.spectra.axis_units import XUnit
 from service.spectra.bands import Band, BandClasses, find_bands, parabolic_offset
 from service.spectra.baseline import BaselineResult, baseline_arpls, baseline_asls, baseline_rubberband
+from service.spectra.conversion import to_absorbance, to_percent_transmittance, to_transmittance
+from service.spectra.delimited import read_delimited
+from service.spectra.jcamp_reader import JcampBlock, Peak, PeakTable, read_jcamp_blocks
+from service.spectra.jcamp_writer import write_jcamp
 from service.spectra.model import Spectrum, SpectrumError, SpectrumMeta, YKind
 from service.spectra.pipeline import Processed, run_steps
 from service.spectra.polystyrene import (
@@ -32,17 +37,10 @@ from service.spectra.quality import (
     assess_quality,
     coverage_findings,
 )
+from service.spectra.reader_errors import ACCEPTED_FORMATS, CompoundFileError, ReaderError
+from service.spectra.readers import decode_text, detect_format, read_jcamp_file, read_peak_table, read_spectrum
 from service.spectra.similarity import cosine, euclidean_distance, first_derivative_correlation, pearson
 from service.spectra.smoothing import SavitzkyGolay
-
-from service.spectra.axis_units import XUnit
-from service.spectra.conversion import to_absorbance, to_percent_transmittance, to_transmittance
-from service.spectra.delimited import read_delimited
-from service.spectra.jcamp_reader import JcampBlock, Peak, PeakTable, read_jcamp_blocks
-from service.spectra.jcamp_writer import write_jcamp
-from service.spectra.reader_errors import ACCEPTED_FORMATS, ReaderError
-from service.spectra.readers import decode_text, detect_format, read_jcamp_file, read_peak_table, read_spectrum
-
 
 __all__ = [
     "ACCEPTED_FORMATS",
@@ -50,6 +48,7 @@ __all__ = [
     "BandClasses",
     "BaselineResult",
     "CheckItem",
+    "CompoundFileError",
     "InstrumentCheck",
     "JcampBlock",
     "PH_EUR_BANDS",

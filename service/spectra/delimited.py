@@ -113,39 +113,18 @@ def read_delimited(
             "separated by comma, semicolon, tab or blanks"
         )
     sep, sep_name, decimal_comma = found
-    header: list[str] | None = None
-    rows: list[list[str]] = []
-    row_lines: list[int] = []
-    for no, line in enumerate(text.split("\n"), start=1):
-        if not line.strip() or line.lstrip().startswith("#"):
-            continue
-        fields = [f.strip() for f in _split(line, sep)]
-        while fields and fields[-1] == "":
-            fields.pop()
-        if _numeric_fields(fields, decimal_comma):
-            rows.append(fields)
-            row_lines.append(no)
-        elif rows:
-            raise ReaderError(f"line {no} is not numbers ({line.strip()[:60]!r}); data lines must hold only numbers")
-        else:
-            header = fields
-    widths = {len(r) for r in rows}
-    if len(widths) != 1:
-        counts = [len(r) for r in rows]
-        i = next(i for i, c in enumerate(counts) if c != counts[0])
-        raise ReaderError(f"line {row_lines[i]} has {counts[i]} fields but line {row_lines[0]} has {counts[0]}")
-    width = widths.pop()
-    flat = [f.replace(",", ".") for r in rows for f in r] if decimal_comma else [f for r in rows for f in r]
-    table = np.array(flat, dtype=np.float64).reshape(len(rows), width)
+    header, rows_text, line_nos = _split_header(text, sep, decimal_comma)
+    table, width = _parse_rows(rows_text, line_nos, sep, decimal_comma)
+    rows = table.shape[0]
     if header is not None and len(header) != width:
         header = None  # free text before the data, not column names
-    notes = [f"delimited text: {len(rows)} rows, {width} columns separated by {sep_name}"
+    notes = [f"delimited text: {rows} rows, {width} columns separated by {sep_name}"
              + (", decimal comma" if decimal_comma else "")]
     col = _choose_column(width, header, column)
     x, y = table[:, 0], table[:, col]
-    if not np.all(np.isfinite(table[:, [0, col]])):
-        bad = int(np.flatnonzero(~np.isfinite(table[:, [0, col]]).all(axis=1))[0])
-        raise ReaderError(f"line {row_lines[bad]} holds a value that is not a finite number")
+    if not (np.isfinite(x).all() and np.isfinite(y).all()):
+        bad = int(np.flatnonzero(~(np.isfinite(x) & np.isfinite(y)))[0])
+        raise ReaderError(f"data row {bad + 1} holds a value that is not a finite number")
     if width > 2:
         name = header[col] if header else f"column {col + 1}"
         notes.append(f"value column {name!r} taken of {width - 1}")
@@ -159,6 +138,56 @@ def read_delimited(
         return Spectrum.create(xs, y, kind, meta=SpectrumMeta(format=FORMAT), notes=notes)
     except SpectrumError as exc:
         raise ReaderError(str(exc)) from None
+
+
+def _split_header(
+    text: str, sep: str | None, decimal_comma: bool
+) -> tuple[list[str] | None, list[str], list[int]]:
+    """(column names or None, the data lines, their file line numbers)."""
+    lines = text.split("\n")
+    header: list[str] | None = None
+    for i, line in enumerate(lines):
+        if not line.strip() or line.lstrip().startswith("#"):
+            continue
+        fields = [f.strip() for f in _split(line, sep)]
+        while fields and fields[-1] == "":
+            fields.pop()
+        if _numeric_fields(fields, decimal_comma):
+            keep = [j for j in range(i, len(lines)) if lines[j].strip() and not lines[j].lstrip().startswith("#")]
+            return header, [lines[j] for j in keep], [j + 1 for j in keep]
+        header = fields
+    raise ReaderError("no data lines found")
+
+
+def _parse_rows(
+    rows: list[str], line_nos: list[int], sep: str | None, decimal_comma: bool
+) -> tuple[NDArray[np.float64], int]:
+    """All data lines at once with numpy; on any irregularity, a per-line pass finds the line to name."""
+    width = len([f for f in _split(rows[0], sep) if f.strip()])
+    if all('"' not in r for r in rows[:5]):
+        body = "\n".join(rows)
+        if decimal_comma:
+            body = body.replace(",", ".")
+        if sep is not None and sep != " ":
+            body = body.replace(sep, " ")
+        tokens = body.split()
+        if len(tokens) == width * len(rows):
+            try:
+                return np.array(tokens, dtype=np.float64).reshape(len(rows), width), width
+            except ValueError:
+                pass
+    for k, line in enumerate(rows):
+        fields = [f.strip() for f in _split(line, sep)]
+        while fields and fields[-1] == "":
+            fields.pop()
+        if not _numeric_fields(fields, decimal_comma):
+            raise ReaderError(
+                f"line {line_nos[k]} ({line.strip()[:60]!r}) is not numbers; data lines must hold only numbers"
+            )
+        if len(fields) != width:
+            raise ReaderError(f"line {line_nos[k]} has {len(fields)} fields but line {line_nos[0]} has {width}")
+    values = [f.strip().replace(",", ".") if decimal_comma else f.strip() for r in rows for f in _split(r, sep) if f.strip()]
+    return np.array(values, dtype=np.float64).reshape(len(rows), width), width
 
 
 def _choose_column(width: int, header: list[str] | None, column: str | int | None) -> int:

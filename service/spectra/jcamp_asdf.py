@@ -115,7 +115,7 @@ def decode_xydata(body: str, first_line: int) -> DecodedTable:
         raise ReaderError(f"##XYDATA= (before line {first_line}) holds no data lines")
     # leading blanks go (keeping line count), so a token right after a newline opens a line
     text = body.lstrip(" \t,")
-    if _LEADING_WS.search(text):
+    if "\n " in text or "\n\t" in text or "\n," in text:
         text = _LEADING_WS.sub("\n", text)
     if not text.endswith("\n"):
         text += "\n"

@@ -64,12 +64,15 @@ class Block:
 
     records: list[Record] = field(default_factory=list)
     start_line: int = 0
+    _index: dict[str, Record] = field(default_factory=dict, repr=False, compare=False)
 
     def get(self, label: str) -> Record | None:
-        for rec in self.records:
-            if rec.label == label:
-                return rec
-        return None
+        """The first record with this (normalised) label."""
+        if len(self._index) != len(self.records):
+            self._index = {}
+            for rec in reversed(self.records):
+                self._index[rec.label] = rec
+        return self._index.get(label)
 
     def text(self, label: str, default: str = "") -> str:
         rec = self.get(label)

@@ -14,6 +14,7 @@ from __future__ import annotations
 import re
 from dataclasses import dataclass, field
 from datetime import datetime
+from typing import Any
 
 import numpy as np
 from numpy.typing import NDArray
@@ -196,45 +197,60 @@ def _xydata(block: Block, body: str, body_line: int, xf: WrittenNumber) -> tuple
         raise ReaderError("##NPOINTS= is missing; an ##XYDATA= table needs ##FIRSTX=, ##LASTX= and ##NPOINTS=")
     if int(npoints.value) != npoints.value or npoints.value < 2:
         raise ReaderError(f"##NPOINTS={npoints.text} is not a whole number of at least 2")
-    if n != int(npoints.value):
-        raise ReaderError(
-            f"##NPOINTS= says {int(npoints.value)} points but the ##XYDATA= table holds {n}; "
-            "the file is cut short or damaged"
-        )
-    deltax = (lastx.value - firstx.value) / (n - 1)
+    declared_n = int(npoints.value)
+    deltax = (lastx.value - firstx.value) / (declared_n - 1)
     if deltax == 0:
         raise ReaderError(f"##FIRSTX= and ##LASTX= are both {firstx.text}; the axis has no extent")
+    # X check: every line's abscissa must be where the count of points before it puts it. When
+    # the count disagrees with NPOINTS, say so if the data are consistent with their own count.
+    bad = _first_bad_line(table, firstx, lastx, xf, declared_n)
+    if bad is not None and (n == declared_n or _first_bad_line(table, firstx, lastx, xf, n) is not None):
+        i, written, expected = bad
+        if table.line_index[i] == 0:
+            raise ReaderError(
+                f"##FIRSTX= says {firstx.text} but the first data line (line {int(table.line_no[i])}) starts at "
+                f"{written:.8g}; the header and the data disagree"
+            )
+        raise ReaderError(
+            f"X check failed on line {int(table.line_no[i])}: the line starts at x = {written:.8g} but the "
+            f"{int(table.line_index[i])} points before it put it at {expected:.8g} "
+            "(a point is missing or extra, or ##FIRSTX=/##LASTX= are wrong)"
+        )
+    if n != declared_n:
+        raise ReaderError(
+            f"##NPOINTS= says {declared_n} points but the ##XYDATA= table holds {n}; the file is cut short or damaged"
+        )
     declared = block.number("DELTAX")
     if declared is not None:
-        extra = 0.5 * (firstx.unit + lastx.unit) / (n - 1)
+        extra = 0.5 * (firstx.unit + lastx.unit) / (declared_n - 1)
         if not _agree(declared, deltax, extra) or np.sign(declared.value) != np.sign(deltax):
             raise ReaderError(
                 f"##DELTAX= says {declared.text} but ##FIRSTX=, ##LASTX= and ##NPOINTS= give {deltax:.8g}; "
                 "the header contradicts itself"
             )
-    # X check: every line's abscissa must be where the count of points before it puts it
-    expected = firstx.value + table.line_index * deltax
-    written = table.line_x * xf.value
-    # allowed: rounding of the written abscissa, of XFACTOR, of FIRSTX/LASTX, and 1 part in 10⁶
-    tol = (0.5 * table.line_x_unit * abs(xf.value) + 0.5 * xf.unit * np.abs(table.line_x)
-           + 0.5 * (firstx.unit + lastx.unit) + 1e-6 * np.abs(expected))
-    bad = np.abs(written - expected) > tol
-    if bad.any():
-        i = int(np.argmax(bad))
-        if table.line_index[i] == 0:
-            raise ReaderError(
-                f"##FIRSTX= says {firstx.text} but the first data line (line {int(table.line_no[i])}) starts at "
-                f"{written[i]:.8g}; the header and the data disagree"
-            )
-        raise ReaderError(
-            f"X check failed on line {int(table.line_no[i])}: the line starts at x = {written[i]:.8g} but the "
-            f"{int(table.line_index[i])} points before it put it at {expected[i]:.8g} "
-            "(a point is missing or extra, or ##FIRSTX=/##LASTX= are wrong)"
-        )
     x = np.linspace(firstx.value, lastx.value, n)
     form = "compressed (ASDF)" if table.compressed else "AFFN"
     checks = f", {table.y_checks} Y checks passed" if table.y_checks else ""
     return x, table.y, f"##XYDATA=(X++(Y..Y)) in {form} form, {table.line_x.size} lines, X checks passed{checks}"
+
+
+def _first_bad_line(
+    table: Any, firstx: WrittenNumber, lastx: WrittenNumber, xf: WrittenNumber, n: int
+) -> tuple[int, float, float] | None:
+    """(line, written x, expected x) of the first line whose abscissa is off, or None.
+
+    Allowed: the rounding of the written abscissa, of XFACTOR and of FIRSTX/LASTX, and one
+    part in 10⁶ (single-precision writers)."""
+    deltax = (lastx.value - firstx.value) / (n - 1)
+    expected = firstx.value + table.line_index * deltax
+    written = table.line_x * xf.value
+    tol = (0.5 * table.line_x_unit * abs(xf.value) + 0.5 * xf.unit * np.abs(table.line_x)
+           + 0.5 * (firstx.unit + lastx.unit) + 1e-6 * np.abs(expected))
+    bad = np.abs(written - expected) > tol
+    if not bad.any():
+        return None
+    i = int(np.argmax(bad))
+    return i, float(written[i]), float(expected[i])
 
 
 def _check_points(block: Block, x: NDArray[np.float64], y_raw: NDArray[np.float64], xf: WrittenNumber) -> None:

@@ -20,6 +20,7 @@ from numpy.typing import NDArray
 
 from service.errors import UnusableInput
 from service.spectra.bands import parabolic_offset
+from service.spectra.conversion import to_absorbance
 from service.spectra.model import Spectrum, YKind
 
 
@@ -71,10 +72,12 @@ class CheckItem:
     limit: str
     outcome: Literal["pass", "fail"]
     detail: str = ""
+    limit_low: float | None = None  # the limit as numbers: measured must lie in [low, high] (or exceed low)
+    limit_high: float | None = None
 
     def as_dict(self) -> dict[str, Any]:
         return {"name": self.name, "measured": self.measured, "limit": self.limit, "outcome": self.outcome,
-                "detail": self.detail}
+                "detail": self.detail, "limit_low": self.limit_low, "limit_high": self.limit_high}
 
 
 @dataclass(frozen=True)
@@ -91,16 +94,12 @@ class InstrumentCheck:
 
 
 def _absorbance(spectrum: Spectrum) -> NDArray[np.float64]:
-    factor = {YKind.transmittance: 1.0, YKind.percent_transmittance: 100.0}
-    if spectrum.kind is YKind.absorbance:
-        return np.asarray(spectrum.y, dtype=np.float64)
-    if spectrum.kind not in factor:
+    if spectrum.kind not in (YKind.absorbance, YKind.transmittance, YKind.percent_transmittance):
         raise PolystyreneCheckError(
             f"the polystyrene check needs absorbance or transmittance, not {spectrum.kind.value}"
         )
-    t = np.asarray(spectrum.y, dtype=np.float64) / factor[spectrum.kind]
-    floor = 1e-6  # -log10 of a non-positive transmittance is undefined; clip (bands there are saturated)
-    return -np.log10(np.clip(t, floor, None))
+    # T <= 0 is clipped (and noted) by the conversion; bands there are saturated anyway
+    return np.asarray(to_absorbance(spectrum).y, dtype=np.float64)
 
 
 def _band_maximum(x: NDArray[np.float64], a: NDArray[np.float64], centre: float) -> float | None:
@@ -168,23 +167,26 @@ def check_polystyrene(
         pos = _band_maximum(x, a, ref.position_cm1)
         name = f"band {ref.position_cm1:.1f} cm⁻¹"
         limit = f"{ref.position_cm1:.1f} ± {ref.tolerance_cm1:.1f} cm⁻¹"
+        bounds = {"limit_low": ref.position_cm1 - ref.tolerance_cm1, "limit_high": ref.position_cm1 + ref.tolerance_cm1}
         if pos is None:
             items.append(CheckItem(name, None, limit, "fail",
-                                   f"no absorbance maximum within ±{SEARCH_HALF_WIDTH_CM1:g} cm⁻¹"))
+                                   f"no absorbance maximum within ±{SEARCH_HALF_WIDTH_CM1:g} cm⁻¹", **bounds))
             continue
         dev = pos - ref.position_cm1
         ok = abs(dev) <= ref.tolerance_cm1 + 1e-9
         items.append(CheckItem(name, round(pos, 2), limit, "pass" if ok else "fail",
-                               f"maximum at {pos:.2f} cm⁻¹ ({dev:+.2f} cm⁻¹), 3-point parabola"))
+                               f"maximum at {pos:.2f} cm⁻¹ ({dev:+.2f} cm⁻¹), 3-point parabola", **bounds))
     for crit in resolution:
         top = _extreme_value(x, a, crit.band_cm1, 1.0 + spacing, "max")
         low = _extreme_value(x, a, crit.valley_cm1, VALLEY_HALF_WIDTH_CM1, "min")
         name = f"resolution A({crit.band_cm1:g}) − A({crit.valley_cm1:g})"
         limit = f"> {crit.min_difference:g}"
         if top is None or low is None:
-            items.append(CheckItem(name, None, limit, "fail", "band or minimum not found"))
+            items.append(CheckItem(name, None, limit, "fail", "band or minimum not found",
+                                   limit_low=crit.min_difference))
             continue
         diff = top - low
         items.append(CheckItem(name, round(diff, 4), limit, "pass" if diff > crit.min_difference else "fail",
-                               f"A(max near {crit.band_cm1:g}) = {top:.4f}, A(min near {crit.valley_cm1:g}) = {low:.4f}"))
+                               f"A(max near {crit.band_cm1:g}) = {top:.4f}, A(min near {crit.valley_cm1:g}) = {low:.4f}",
+                               limit_low=crit.min_difference))
     return InstrumentCheck(passed=all(i.outcome == "pass" for i in items), checks=tuple(items))

@@ -171,7 +171,8 @@ def assess_quality(spectrum_absorbance: Spectrum, *, limits: QualityLimits = Qua
     findings.append(QualityFinding(
         "saturation", "pass" if ok else "fail", _r(amax), limits.max_absorbance,
         f"highest absorbance {amax:.3f} at {x[int(np.argmax(a))]:.1f} cm⁻¹"
-        + ("" if ok else " (detector response no longer linear): use a thinner film or less sample, and measure again"), "absorbance"))
+        + ("" if ok else " (detector response no longer linear): use a thinner film or less sample, "
+           "and measure again"), "absorbance"))
 
     w = max(5, int(round(15.0 / dx)) | 1)
     smooth = SavitzkyGolay(window=w, polyorder=2).apply(corrected) if a.size > w else corrected

@@ -18,3 +18,15 @@ class ReaderError(UnusableInput):
 
     code = "unreadable-spectrum-file"
     title = "Spectrum file cannot be read"
+
+
+class CompoundFileError(ReaderError):
+    """A JCAMP-DX file holds several blocks where one spectrum was asked for.
+
+    ``blocks`` lists ``(index, title, reason it cannot be read or None)`` for each block, so a
+    caller can offer the choice (e.g. ``bandgate inspect --block N``).
+    """
+
+    def __init__(self, message: str, *, blocks: list[tuple[int, str, str | None]]) -> None:
+        super().__init__(message)
+        self.blocks = blocks

@@ -17,9 +17,12 @@ from service.spectra.axis_units import XUnit
 from service.spectra.delimited import read_delimited, sniff
 from service.spectra.jcamp_reader import JcampBlock, PeakTable, read_jcamp_blocks
 from service.spectra.model import Spectrum, YKind
-from service.spectra.reader_errors import ACCEPTED_FORMATS, ReaderError
+from service.spectra.reader_errors import ACCEPTED_FORMATS, CompoundFileError, ReaderError
 
 _CONTROL = re.compile(r"[\x00-\x08\x0b\x0e-\x1f\x7f]")
+# bytes.translate deleting these leaves only the control characters of an ASCII text (at memory
+# speed); non-ASCII text takes the regex
+_PRINTABLE = bytes(i for i in range(128) if not _CONTROL.match(chr(i)))
 _MAGIC = (
     (b"\x89PNG", "a PNG image"),
     (b"\xff\xd8\xff", "a JPEG image"),
@@ -57,10 +60,16 @@ def decode_text(data: bytes) -> str:
             text = body.decode("utf-8")
         except UnicodeDecodeError:
             text = body.decode("latin-1")
-    text = text.replace("\r\n", "\n").replace("\r", "\n").rstrip("\x1a")
+    if "\r" in text:
+        text = text.replace("\r\n", "\n").replace("\r", "\n")
+    text = text.rstrip("\x1a")
     if text.startswith("\ufeff"):
         text = text[1:]
-    if _CONTROL.search(text):
+    if text.isascii():
+        binary = bool(text.encode("ascii").translate(None, _PRINTABLE))
+    else:
+        binary = _CONTROL.search(text) is not None
+    if binary:
         raise ReaderError(
             f"the file is binary (an instrument's own format?), not text; export it as JCAMP-DX or CSV. "
             f"Accepted formats: {ACCEPTED_FORMATS}"
@@ -164,9 +173,10 @@ def _one_jcamp_spectrum(blocks: list[JcampBlock]) -> Spectrum:
         f"{b.index}: {b.title or 'untitled'}" + (f" (unreadable: {b.error})" if b.error else "") for b in blocks[:6]
     )
     more = f"; and {len(blocks) - 6} more" if len(blocks) > 6 else ""
-    raise ReaderError(
+    raise CompoundFileError(
         f"the file is a compound JCAMP-DX file with {len(blocks)} blocks ({listed}{more}); one spectrum per file "
-        "is read: export the spectrum you need on its own"
+        "is read: export the spectrum you need on its own",
+        blocks=[(b.index, b.title, b.error) for b in blocks],
     )
 
 

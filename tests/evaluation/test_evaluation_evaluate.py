@@ -8,7 +8,7 @@ from typing import Any
 
 import numpy as np
 import pytest
-from conftest import ESTER_BANDS, synthetic
+from evaluation_factories import ESTER_BANDS, synthetic
 
 from service.evaluation import Evaluation, ReferenceLibrary, evaluate, parse_specification
 from service.spectra import Spectrum, YKind
@@ -177,3 +177,15 @@ def test_preparation_exclusions_are_shown_and_masked(make_spectrum: MakeSpectrum
     assert {r["from"] for r in shown} == {2950, 1465, 1380, 730}
     fp = next(c for c in e.criteria if c.kind == "fingerprint")
     assert fp.passed, fp.message  # the oil bands are masked out of the comparison
+
+
+def test_strong_water_vapour_lines_are_warned_about() -> None:
+    # Water-vapour lines ~3950–3500 cm⁻¹ (../shared/domain.md, interference regions; common practice).
+    clean = synthetic(ESTER_BANDS, seed=1)
+    x = clean.x
+    lines = sum(0.04 * np.exp(-0.5 * ((x - c) / 0.8) ** 2) for c in np.arange(3660.0, 3940.0, 7.3))
+    wet = clean.with_values(clean.y + lines)
+    s = spec()
+    assert "water-vapour" not in [w.code for w in evaluate(clean, s, synthetic(ESTER_BANDS)).warnings]
+    e = evaluate(wet, s, synthetic(ESTER_BANDS))
+    assert "water-vapour" in [w.code for w in e.warnings] and e.verdict == "pass"

@@ -21,11 +21,12 @@ import pytest
 
 from service.evaluation import Method, ReferenceLibrary, evaluate, parse_specification
 from service.evaluation.limits import derive_limit
-from service.spectra import Spectrum
+from service.spectra import Spectrum, read_spectrum
 
 FIVE = "real-atr-five-materials.csv"
 BIODIESEL = "real-atr-diesel-biodiesel-series.csv"
 PLANT = "real-atr-plant-paper-materials.csv"
+DUPDEC1 = Path(__file__).resolve().parents[1] / "data" / "jcamp" / "dupdec1.jdx"
 LoadReal = Callable[[str], dict[str, Spectrum]]
 
 
@@ -58,11 +59,7 @@ def test_five_material_set_remeasured_spectra_rank_to_their_own_material(load_re
 def test_transmission_polystyrene_film_ranks_the_atr_polystyrene_first(load_real: LoadReal) -> None:
     # dupdec1.jdx: public-domain polystyrene film (transmission), JCAMP-DX test file by R. J. Lancashire,
     # shipped with the PyPI package jcamp 1.3.2; against the PlotFTIR five-material ATR set (GPL-3).
-    read_spectrum = pytest.importorskip("service.spectra").__dict__.get("read_spectrum")
-    path = Path(__file__).resolve().parents[1] / "data" / "jcamp" / "dupdec1.jdx"
-    if read_spectrum is None or not path.is_file():
-        pytest.skip("needs the JCAMP-DX reader and tests/data/jcamp/dupdec1.jdx from the spectra-io branch")
-    film = read_spectrum(path.read_bytes(), file_name="dupdec1.jdx")
+    film = read_spectrum(DUPDEC1.read_bytes(), file_name="dupdec1.jdx")
     five = load_real(FIVE)
     lo = max(700.0, film.range_cm1[0] + 2)
     hi = min(3900.0, film.range_cm1[1] - 2)
@@ -173,3 +170,59 @@ def test_plant_paper_limits_from_authentic_spectra_accept_and_reject(load_real: 
     # stated rates for the class with most authentic spectra in wood: hardwood (mean - 3 sd, first derivative)
     assert rates["hardwood"][0] >= 0.8 and rates["hardwood"][1] >= 0.95
     assert all(acc >= 0.6 for acc, _ in rates.values()) and all(rej >= 0.65 for _, rej in rates.values())
+
+
+def test_polystyrene_as_a_material_spec_with_the_ph_eur_band_positions() -> None:
+    # Ph. Eur. 2.2.24 polystyrene band positions and tolerances (../shared/domain.md, tolerances from memory),
+    # on dupdec1.jdx (public-domain polystyrene film, R. J. Lancashire's JCAMP-DX test set via jcamp 1.3.2).
+    from service.spectra import PH_EUR_BANDS
+
+    film = read_spectrum(DUPDEC1.read_bytes(), file_name="dupdec1.jdx")
+    doc = {
+        "material": "POLYSTYRENE-FILM", "name": "polystyrene film", "version": 1, "preparation": "film",
+        "range": [3900, 900],
+        "required_bands": [{"label": f"polystyrene {b.position_cm1:g}", "from": b.position_cm1 + 8,
+                            "to": b.position_cm1 - 8, "position": b.position_cm1, "tolerance": b.tolerance_cm1}
+                           for b in PH_EUR_BANDS],
+        "fingerprint": {"metric": "pearson", "min_score": 0.95},
+        # a ~35 µm wavenumber-check film: its strongest bands bottom out near 0 %T by design
+        "quality": {"max_absorbance": 4.0, "min_absorbance": 0.1},
+    }
+    spec = parse_specification(doc)
+    own = evaluate(film, spec, film)
+    assert own.verdict == "pass", own.summary()
+    for c in own.criteria:
+        if c.kind == "required_band":
+            print(f"\n{c.label}: {c.message}", end="")
+    shifted = Spectrum.create(film.x + 2.0, film.y, film.kind)
+    moved = evaluate(shifted, spec, film)
+    print(f"\n+2 cm⁻¹ axis shift: {moved.summary()}")
+    assert moved.verdict == "fail"
+    failed = [c for c in moved.failed_criteria if c.kind == "required_band"]
+    assert all("position offset" in c.message for c in failed)
+    # every ±1.0 band fails; of the ±1.5 bands, 3060 (measured 3059.4 on this film) still passes at 3061.4
+    tight = {f"polystyrene {b.position_cm1:g}" for b in PH_EUR_BANDS if b.tolerance_cm1 == 1.0}
+    assert tight <= {c.label for c in failed} and len(failed) >= 6
+
+
+def test_saw_palmetto_extract_spec_rejects_the_plain_oils(load_real: LoadReal) -> None:
+    # ChemoSpec SrE.IR data (GPL-3, R package ChemoSpec, data/SrE.IR.RData, commit 0e963a9): plant-oil extracts.
+    # Free fatty acids give the extracts an acid C=O near 1709 cm⁻¹ (group-frequency table: acid C=O 1760–1690);
+    # the plain oils are triglycerides (ester C=O ~1743) with hardly any acid band.
+    spectra = load_real("real-saw-palmetto-extracts-ir.csv")
+    spec = parse_specification({
+        "material": "SPE", "name": "saw palmetto extract", "version": 1, "preparation": "atr-diamond",
+        "range": [3900, 700],
+        "required_bands": [{"label": "acid C=O (free fatty acids)", "from": 1720, "to": 1700,
+                            "min_relative_intensity": 0.1}],  # extracts measure 0.16 and up here, the oils ~0.01
+        "fingerprint": {"metric": "pearson", "min_score": 0.9},
+    })
+    reference = spectra["pure_extract_1"]
+    verdicts = {name: evaluate(s, spec, reference).verdict for name, s in spectra.items()}
+    extracts = [n for n in spectra if "extract" in n]
+    oils = [n for n in spectra if n.endswith("oil_1")]
+    passed = sum(verdicts[n] == "pass" for n in extracts)
+    print(f"\nextract spec: {passed}/{len(extracts)} extracts pass (pure and labelled adulterated alike: the label "
+          f"is not separated by this rule); oils: " + ", ".join(f"{n} {verdicts[n]}" for n in oils))
+    assert passed == len(extracts)
+    assert all(verdicts[n] == "fail" for n in oils)

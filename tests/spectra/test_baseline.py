@@ -94,3 +94,25 @@ def test_bad_input_is_refused() -> None:
         baseline_asls(np.ones(100), p=1.5)
     with pytest.raises(InvalidInput):
         baseline_rubberband(np.arange(10.0)[::-1], np.ones(10))
+
+
+def test_asls_matches_pybaselines_for_series_of_changing_length() -> None:
+    """Our wrapper reuses one fitter per length: interleaved lengths must give pybaselines' own result."""
+    from pybaselines import Baseline
+
+    for n in (3600, 500, 3600, 1200, 500):
+        y = np.random.default_rng(n).normal(size=n).cumsum()
+        assert_allclose(baseline_asls(y).baseline, Baseline().asls(y, lam=1e5, p=0.01)[0], atol=1e-12)
+        assert_allclose(baseline_arpls(y, max_iter=10).baseline,
+                        Baseline().arpls(y, lam=1e5, max_iter=10)[0], atol=1e-12)
+
+
+def test_asls_from_several_threads_gives_the_serial_results() -> None:
+    from concurrent.futures import ThreadPoolExecutor
+
+    series = [np.random.default_rng(s).normal(size=800).cumsum() for s in range(12)]
+    serial = [baseline_asls(y).baseline for y in series]
+    with ThreadPoolExecutor(max_workers=4) as pool:
+        threaded = list(pool.map(lambda y: baseline_asls(y).baseline, series * 3))
+    for i, got in enumerate(threaded):
+        assert_allclose(got, serial[i % len(series)], atol=1e-12)

@@ -1,12 +1,15 @@
-"""Quality findings on synthetic spectra with one defect each (limits: common practice, domain.md)."""
+"""Quality findings on synthetic spectra with one defect each (limits: common practice, domain.md),
+and on real public-domain JCAMP-DX spectra."""
 
 from __future__ import annotations
+
+from pathlib import Path
 
 import numpy as np
 import pytest
 
 from service.errors import InvalidInput
-from service.spectra import QualityLimits, Spectrum, assess_quality, coverage_findings
+from service.spectra import QualityLimits, Spectrum, assess_quality, coverage_findings, read_spectrum, to_absorbance
 
 X = np.arange(400.0, 4000.0, 1.0)
 
@@ -104,3 +107,25 @@ def test_noise_region_not_covered_is_a_warning() -> None:
 def test_only_absorbance_is_accepted() -> None:
     with pytest.raises(InvalidInput, match="absorbance"):
         assess_quality(Spectrum.create(X, 10 ** -_clean(), "transmittance"))
+
+
+JCAMP = Path(__file__).resolve().parents[1] / "data" / "jcamp"
+
+
+def _real(name: str) -> Spectrum:
+    return to_absorbance(read_spectrum((JCAMP / name).read_bytes(), file_name=name))
+
+
+def test_real_indene_spectrum_clipped_at_absorbance_3_is_saturated_and_flat_topped() -> None:
+    """fixinc2.jdx (public domain, jcamp 1.3.2 sdist, see tests/data/jcamp/README.md): indene in
+    absorbance whose strongest bands are cut off at A = 3 by the instrument software."""
+    report = assess_quality(_real("fixinc2.jdx"))
+    assert report.finding("saturation").outcome == "fail"
+    assert report.finding("saturation").measured == pytest.approx(3.0, abs=0.01)
+    assert report.finding("flat-topped band").outcome == "fail"
+
+
+def test_real_thin_polystyrene_film_is_a_usable_spectrum() -> None:
+    """jtpolys.jdx (public domain): a thin polystyrene film, nothing saturated, S/N well above 100."""
+    report = assess_quality(_real("jtpolys.jdx"))
+    assert report.outcome == "pass", [f for f in report.findings if f.outcome != "pass"]

@@ -56,3 +56,23 @@ def test_errors() -> None:
         pearson([1, 2, 3], [1, 2])
     with pytest.raises(InvalidInput, match="constant"):
         pearson([1, 1, 1, 1], [1, 2, 3, 4])
+
+
+def _pearson_oracle(a, b):
+    """Textbook formula, term by term in plain Python."""
+    n = len(a)
+    ma, mb = sum(a) / n, sum(b) / n
+    cov = sum((p - ma) * (q - mb) for p, q in zip(a, b))
+    va = sum((p - ma) ** 2 for p in a)
+    vb = sum((q - mb) ** 2 for q in b)
+    return cov / (va * vb) ** 0.5
+
+
+def test_pearson_and_euclidean_against_plain_python_oracles() -> None:
+    rng = np.random.default_rng(11)
+    a = rng.normal(size=500)
+    b = 0.7 * a + rng.normal(size=500)
+    assert pearson(a, b) == pytest.approx(_pearson_oracle(a.tolist(), b.tolist()), abs=1e-12)
+    na, nb = sum(v * v for v in a) ** 0.5, sum(v * v for v in b) ** 0.5
+    expected = sum((p / na - q / nb) ** 2 for p, q in zip(a, b)) ** 0.5
+    assert euclidean_distance(a, b) == pytest.approx(expected, abs=1e-12)
