@@ -193,7 +193,12 @@ def apply_suggestions(engine: Any, code: str, values: dict[str, Any]) -> None:
     """Fill the band rows from the approved reference's measured bands, with group-frequency hints."""
     from service.services.band_suggestions import suggest_from_reference
 
-    rows = suggest_from_reference(engine, code)
+    lo = hi = None
+    try:
+        lo, hi = sorted((float(values["range_low"]), float(values["range_high"])))
+    except (KeyError, ValueError):
+        pass
+    rows = suggest_from_reference(engine, code, lo=lo, hi=hi)
     for key in [k for k in values if k.startswith("rb")]:
         del values[key]
     for i, r in enumerate(rows):

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import re
 from datetime import date
 
 import pytest
@@ -74,3 +75,19 @@ def test_review_rejection_through_the_pages_on_postgresql(lab_site_pg: Site) -> 
     lot = uc.get_lot(lab_site_pg.engine, code)
     assert lot.state == "rejected" and lot.signatures[0].printed_name == PEOPLE["sup"].printed_name
     assert uc.verify_audit(lab_site_pg.engine).ok
+
+
+def test_suggest_from_reference_fills_band_rows_with_group_frequency_hints(lab_site: Site) -> None:
+    qa = lab_site.client("qa")
+    _, token = csrf(qa, "/materials/TOL-01/specs/new")
+    before = len(uc.audit_events(lab_site.engine, limit=1000))
+    r = qa.post("/materials/TOL-01/specs/new", data={"csrf_token": token, "band_rows": "3", "forbidden_rows": "2",
+                                                     "suggest": "1", "name": "Toluene", "preparation": "atr-diamond"})
+    assert r.status_code == 200
+    assert "Check every row" in r.text
+    # toluene's aromatic ring stretch near 1495 cm⁻¹ (UMass OWL / UCLA tables: aromatic ring 1500–1400)
+    row = re.search(r'name="rb(\d+)_label" type="text" value="band at 149\d"', r.text)
+    assert row, "no row for toluene's band near 1495 cm⁻¹"
+    hint = r.text.split(f'name="rb{row.group(1)}_hint" value="')[1].split('"')[0]
+    assert "aromatic ring (1500–1400" in hint
+    assert len(uc.audit_events(lab_site.engine, limit=1000)) == before  # a suggestion saves nothing
