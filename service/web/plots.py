@@ -193,7 +193,9 @@ def render_svg(plot: SpectrumPlot, *, width_in: float = 10.0, height_in: float =
         FigureCanvasSVG(fig)
         n_keys = 2 + bool(plot.reference) + bool(plot.required) + bool(plot.forbidden) + bool(plot.excluded) \
             + bool(plot.bands) + bool(with_diff)
-        legend_in = 0.62 + 0.2 * ((n_keys + 3) // 4)
+        labels = [plot.sample.label] + ([plot.reference.label] if plot.reference else [])
+        per_row = 4 if max(map(len, labels)) <= 34 else 3 if max(map(len, labels)) <= 48 else 2
+        legend_in = 0.62 + 0.2 * -(-n_keys // per_row)
         grid = dict(left=0.8 / width_in, right=1 - 0.15 / width_in, top=1 - (0.42 if plot.title else 0.15) / height,
                     bottom=legend_in / height, hspace=0.08)
         if with_diff:
@@ -274,7 +276,9 @@ def render_svg(plot: SpectrumPlot, *, width_in: float = 10.0, height_in: float =
             handles.append(dline)
         else:
             ax.set_xlabel("Wavenumber (cm⁻¹)")
-        fig.legend(handles=handles, loc="lower center", bbox_to_anchor=(0.5, 0.0), ncols=min(4, len(handles)),
+        longest = max(len(h.get_label()) for h in handles)
+        ncols = 4 if longest <= 34 else 3 if longest <= 48 else 2
+        fig.legend(handles=handles, loc="lower center", bbox_to_anchor=(0.5, 0.0), ncols=min(ncols, len(handles)),
                    frameon=False, fontsize=8.5)
 
         buf = io.StringIO()

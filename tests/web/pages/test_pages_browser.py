@@ -33,13 +33,20 @@ def _shot(page, name: str, *, full: bool = True) -> Path:  # type: ignore[no-unt
     return path
 
 
-def _doc_shot(page, name: str) -> None:  # type: ignore[no-untyped-def]
-    """A small PNG for the README (viewport only), when asked for."""
+def _doc_shot(page, name: str, selector: str | None = None) -> None:  # type: ignore[no-untyped-def]
+    """A small PNG for the README (the viewport, or one element), when asked for."""
     if os.environ.get("BANDGATE_SCREENSHOTS") != "docs":
         return
     DOCS_SHOTS.mkdir(parents=True, exist_ok=True)
     path = DOCS_SHOTS / f"{name}.png"
-    page.screenshot(path=str(path), full_page=False)
+    if selector:
+        page.locator(selector).first.screenshot(path=str(path))
+    else:
+        page.screenshot(path=str(path), full_page=False)
+    from PIL import Image  # installed with matplotlib
+
+    with Image.open(path) as img:  # a 256-colour palette keeps README images small and sharp
+        img.convert("RGB").quantize(colors=256).save(path, optimize=True)
     assert path.stat().st_size < 150_000, f"{path} is {path.stat().st_size} bytes; keep README images small"
 
 
@@ -105,7 +112,7 @@ def test_technician_to_supervisor_walk_with_printed_record(tmp_path: Path) -> No
         plot = page.locator("svg.plot")
         assert plot.count() == 1 and "from high to low" in (plot.get_attribute("aria-label") or "")
         _shot(page, "04-evaluation-pass")
-        _doc_shot(page, "evaluation")
+        _doc_shot(page, "evaluation-plot", "figure.plot-figure")
 
         _upload(page, base, lot, 2, "toluene-container-2.csv", failing_upload())
         assert "Does not conform" in page.inner_text(".verdict")
@@ -126,6 +133,8 @@ def test_technician_to_supervisor_walk_with_printed_record(tmp_path: Path) -> No
         page.get_by_role("link", name="Review the failure").click()
         assert page.locator("svg.plot").count() >= 1  # the evidence, with its plot
         _shot(page, "07-review")
+        page.evaluate("document.querySelector('h1').scrollIntoView()")
+        _doc_shot(page, "review")
         page.get_by_role("link", name=re.compile(r"Reject lot")).click()
 
         # The signing step states the meaning before it asks for the password.
