@@ -67,8 +67,14 @@ def _prepared_reference(reference: Spectrum, digest: str, spec: Specification, m
 
 
 def _reference_self_check(ref: Prepared, spec: Specification) -> tuple[Notice, ...]:
-    """The reference should meet its own specification's band rules; if not, say so on every result."""
+    """The reference should meet its own specification (bands, saturation); if not, say so on every result."""
     out = []
+    keep = ~ref.method.excluded_mask
+    top = float(ref.resampled[keep].max()) if keep.any() else float(ref.resampled.max())
+    if top > spec.quality.max_absorbance:
+        out.append(Notice(code="reference-saturated", message=(
+            f"the reference reaches absorbance {top:.2f}, above the specification's {spec.quality.max_absorbance:g}: "
+            "its strongest bands may be distorted; consider measuring a new reference")))
     for rule in spec.required_bands:
         c, _ = judge_required(ref, rule)
         if not c.passed:

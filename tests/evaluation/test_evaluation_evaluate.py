@@ -189,3 +189,9 @@ def test_strong_water_vapour_lines_are_warned_about() -> None:
     assert "water-vapour" not in [w.code for w in evaluate(clean, s, synthetic(ESTER_BANDS)).warnings]
     e = evaluate(wet, s, synthetic(ESTER_BANDS))
     assert "water-vapour" in [w.code for w in e.warnings] and e.verdict == "pass"
+
+
+def test_a_saturated_reference_is_warned_about() -> None:
+    strong = synthetic([(c, h * 2.0, w) for c, h, w in ESTER_BANDS], seed=2)
+    e = evaluate(synthetic(ESTER_BANDS, seed=1), spec(), strong)
+    assert "reference-saturated" in [w.code for w in e.warnings]
