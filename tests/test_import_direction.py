@@ -8,7 +8,7 @@ from pathlib import Path
 import pytest
 
 SERVICE = Path(__file__).resolve().parents[1] / "service"
-PURE_PACKAGES = ["spectra", "evaluation", "release"]
+PURE_PACKAGES = ["spectra", "evaluation", "release", "security"]
 FORBIDDEN = ("fastapi", "starlette", "sqlalchemy", "sqlmodel", "jinja2", "alembic", "uvicorn",
              "service.store", "service.web", "service.services", "service.cli")
 

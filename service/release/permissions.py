@@ -23,6 +23,8 @@ from __future__ import annotations
 from collections.abc import Iterable
 from enum import Enum
 
+from service.errors import Forbidden
+
 
 class Role(str, Enum):
     """A person's role. A person may hold several."""
@@ -125,9 +127,16 @@ SCOPE_ACTIONS: dict[Scope, frozenset[Action]] = {
 }
 
 
+# Other names for a role, accepted when reading stored roles (the trade says both).
+ROLE_ALIASES: dict[str, Role] = {"reviewer": Role.supervisor}
+
+
 def _known(enum: type[Enum], values: Iterable[str]) -> list[Enum]:
     out = []
     for v in values:
+        if enum is Role and v in ROLE_ALIASES:
+            out.append(ROLE_ALIASES[v])
+            continue
         try:
             out.append(enum(v))
         except ValueError:
@@ -184,13 +193,54 @@ def may_sign(roles: Iterable[Role | str], action: Action | str) -> bool:
     return act in SIGNING_ACTIONS and person_may(roles, act)  # type: ignore[arg-type]
 
 
+# Which signing action may give which signature meaning to which record (records layer's meanings).
+SIGNING_FOR: dict[tuple[str, str], frozenset[Action]] = {
+    ("specification_version", "approved"): frozenset({Action.sign_approval}),
+    ("reference_spectrum", "approved"): frozenset({Action.sign_approval}),
+    ("measurement", "invalidated"): frozenset({Action.sign_review}),
+    ("measurement", "reviewed"): frozenset({Action.sign_review}),
+    ("lot", "reviewed"): frozenset({Action.sign_review}),
+    ("lot", "rejected"): frozenset({Action.sign_review, Action.sign_disposition}),
+    ("lot", "released"): frozenset({Action.sign_disposition}),
+}
+
+
+class NotEntitledToSign(Forbidden):
+    """The signer's roles do not include the signing action this signature needs."""
+
+    code = "not-entitled-to-sign"
+    title = "Not entitled to sign"
+
+
+def check_may_sign_record(roles: Iterable[Role | str], *, record_type: str, meaning: str,
+                          action: Action | None = None) -> None:
+    """Raise `NotEntitledToSign` unless ``roles`` may give ``meaning`` to a ``record_type``.
+
+    ``action`` narrows the check to one signing action (e.g. a QA rejection needs
+    `Action.sign_disposition`, a review rejection `Action.sign_review`). Unknown pairs fail closed.
+    """
+    roles = list(roles)
+    allowed = SIGNING_FOR.get((record_type, str(getattr(meaning, "value", meaning))), frozenset())
+    if action is not None:
+        allowed = allowed & {Action(action)}
+    if not any(may_sign(roles, a) for a in allowed):
+        names = ", ".join(sorted(str(getattr(r, "value", r)) for r in roles)) or "none"
+        raise NotEntitledToSign(
+            f"your roles ({names}) do not allow signing a {record_type.replace('_', ' ')} as "
+            f"'{getattr(meaning, 'value', meaning)}'")
+
+
 __all__ = [
     "Action",
+    "NotEntitledToSign",
     "ROLE_ACTIONS",
+    "ROLE_ALIASES",
+    "SIGNING_FOR",
     "Role",
     "SCOPE_ACTIONS",
     "SIGNING_ACTIONS",
     "Scope",
+    "check_may_sign_record",
     "client_may",
     "may_sign",
     "parse_roles",

@@ -10,6 +10,7 @@ from sqlmodel import Session
 
 from service.errors import InvalidInput, NotFound, FieldProblem
 from service.release.actor import Actor
+from service.release.permissions import Action, check_may_sign_record
 from service.release.signing import MEANING_TEXT, Meaning, meaning_allowed
 from service.store import repositories as repo
 from service.store.audit import append_event
@@ -72,10 +73,16 @@ def audit(session: Session, actor: Actor, action: str, record_type: str, record_
 
 
 def sign(session: Session, actor: Actor, *, record_type: str, record_id: int, meaning: Meaning,
-         reason: str) -> Signature:
-    """Sign the exact current content of a record (its digest is stored with the signature)."""
+         reason: str, action: Action | None = None) -> Signature:
+    """Sign the exact current content of a record (its digest is stored with the signature).
+
+    The signer's roles must grant the signing action (``service.release.permissions``): checked
+    here as well as at the page, so no caller can make a technician or an administrator sign.
+    The password re-entry is checked before the use case runs (``security_signing.confirm_signer``).
+    """
     if not meaning_allowed(record_type, meaning):
         raise InvalidInput(f"a {record_type.replace('_', ' ')} cannot be signed as '{meaning.value}'")
+    check_may_sign_record(actor.roles, record_type=record_type, meaning=meaning.value, action=action)
     session.flush()
     sig = Signature(
         record_type=record_type, record_id=record_id, meaning=meaning.value, reason=reason,

@@ -15,6 +15,7 @@ from sqlalchemy.engine import Engine
 from service.errors import Conflict, InvalidInput, NotFound
 from service.release.actor import Actor, check_reviewer_did_not_measure
 from service.release.lot_states import LotState, LotStep
+from service.release.permissions import Action
 from service.release.signing import Meaning
 from service.store import repositories as repo
 from service.store.tables import LotDecision, MeasurementInvalidation, utc_now
@@ -38,7 +39,8 @@ def _decide(engine: Engine, actor: Actor, *, lot_code: str, step: LotStep, outco
         check_reviewer_did_not_measure(reviewer=actor, measured_by=ev.measured_by)
         old_state = lot.state
         set_state(s, actor, lot, step, reason=reason)  # raises StepRefused from a wrong state
-        sig = sh.sign(s, actor, record_type="lot", record_id=lot.id, meaning=meaning, reason=reason)  # type: ignore[arg-type]
+        sig = sh.sign(s, actor, record_type="lot", record_id=lot.id, meaning=meaning, reason=reason,  # type: ignore[arg-type]
+                      action=Action.sign_review if stage == "review" else Action.sign_disposition)
         decision = LotDecision(lot_id=lot.id, outcome=outcome, stage=stage, signature_id=sig.id,
                                decided_at=sig.signed_at, decided_by=actor.user_id)
         repo.add(s, decision)

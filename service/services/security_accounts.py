@@ -11,12 +11,13 @@ import re
 import secrets
 from dataclasses import dataclass
 from datetime import datetime, timezone
+from typing import Any
 
 from sqlalchemy.engine import Engine
 
 from service.errors import Conflict, FieldProblem, Forbidden, InvalidInput, NotFound
 from service.release.actor import Actor
-from service.release.permissions import Role
+from service.release.permissions import ROLE_ALIASES, Role
 from service.security.passwords import check_password_policy, hash_password, verify_password
 from service.store import security as repo
 from service.store.audit import SYSTEM_ACTOR, append_event
@@ -55,7 +56,8 @@ def _person(u: repo.UserRow, now: datetime) -> Person:
 def parse_role_names(values: list[str] | tuple[str, ...] | str, *, field: str = "roles") -> tuple[str, ...]:
     """Validate role names (comma-separated text or a list); at least one, each known."""
     items = values.split(",") if isinstance(values, str) else list(values)
-    names = tuple(sorted({v.strip().lower() for v in items if v.strip()}))
+    lowered = {v.strip().lower() for v in items if v.strip()}
+    names = tuple(sorted({ROLE_ALIASES[n].value if n in ROLE_ALIASES else n for n in lowered}))
     known = {r.value for r in Role}
     unknown = [n for n in names if n not in known]
     if not names or unknown:
@@ -82,6 +84,15 @@ def _check_printed_name(printed_name: str) -> str:
     return name
 
 
+def _collect(problems: list[FieldProblem], check: Any, *args: Any) -> Any:
+    """Run one validation; on failure keep its field problems and return None (report them all at once)."""
+    try:
+        return check(*args)
+    except InvalidInput as exc:
+        problems.extend(exc.fields or [FieldProblem("request", exc.message)])
+        return None
+
+
 def _admin_check(admin: Actor | None) -> Actor:
     """Administration from the command line acts as the system; from a page as an administrator."""
     if admin is None:
@@ -98,10 +109,13 @@ def create_user(engine: Engine, *, username: str, printed_name: str, roles: list
     changed at first sign-in (the person is then the only one who knows it)."""
     now = _now(now)
     actor = _admin_check(admin)
-    name = _check_username(username)
-    printed = _check_printed_name(printed_name)
-    role_names = parse_role_names(roles)
-    check_password_policy(password, username=name, printed_name=printed)
+    problems: list[FieldProblem] = []
+    name = _collect(problems, _check_username, username) or username
+    printed = _collect(problems, _check_printed_name, printed_name) or printed_name
+    role_names = _collect(problems, parse_role_names, roles) or ()
+    _collect(problems, lambda: check_password_policy(password, username=name, printed_name=printed))
+    if problems:
+        raise InvalidInput("; ".join(f"{p.path}: {p.message}" for p in problems), fields=problems)
     pw_hash = hash_password(password)
     with UnitOfWork(engine) as uow:
         if repo.user_by_username(uow.session, name) is not None:
@@ -109,7 +123,7 @@ def create_user(engine: Engine, *, username: str, printed_name: str, roles: list
                            fields=[FieldProblem("username", "taken")])
         uid = repo.insert_user(uow.session, username=name, printed_name=printed, roles=role_names,
                                password_hash=pw_hash, must_change_password=must_change_password, now=now)
-        append_event(uow.session, actor=actor, action="user-created", record_type="user", record_id=uid,
+        append_event(uow.session, actor=actor, action="user.created", record_type="user", record_id=uid,
                      new={"username": name, "printed_name": printed, "roles": list(role_names),
                           "active": True, "must_change_password": must_change_password}, at=now)
         user = repo.user_by_id(uow.session, uid)
@@ -141,7 +155,7 @@ def set_active(engine: Engine, *, username: str, active: bool, reason: str, admi
             return _person(user, now)
         repo.update_user(uow.session, user.id, active=active, disabled_at=None if active else now)
         ended = 0 if active else repo.end_user_sessions(uow.session, user.id, now=now, reason="disabled")
-        append_event(uow.session, actor=actor, action="user-enabled" if active else "user-disabled",
+        append_event(uow.session, actor=actor, action="user.enabled" if active else "user.disabled",
                      record_type="user", record_id=user.id, old={"active": user.active},
                      new={"active": active, "sessions_ended": ended}, reason=reason.strip(), at=now)
         after = repo.user_by_id(uow.session, user.id)
@@ -170,7 +184,7 @@ def reset_password(engine: Engine, *, username: str, reason: str, new_password: 
         repo.update_user(uow.session, user.id, password_hash=hash_password(temporary), password_changed_at=now,
                          must_change_password=True, failed_attempts=0, last_failed_at=None, locked_until=None)
         ended = repo.end_user_sessions(uow.session, user.id, now=now, reason="password-reset")
-        append_event(uow.session, actor=actor, action="password-reset", record_type="user", record_id=user.id,
+        append_event(uow.session, actor=actor, action="user.password-reset", record_type="user", record_id=user.id,
                      old={"locked_until": user.locked_until.isoformat() if user.locked_until else None},
                      new={"must_change_password": True, "sessions_ended": ended}, reason=reason.strip(), at=now)
         after = repo.user_by_id(uow.session, user.id)
@@ -195,7 +209,7 @@ def set_roles(engine: Engine, *, username: str, roles: list[str] | tuple[str, ..
             return _person(user, now)
         repo.update_user(uow.session, user.id, roles=names)
         ended = repo.end_user_sessions(uow.session, user.id, now=now, reason="roles-changed")
-        append_event(uow.session, actor=actor, action="roles-changed", record_type="user", record_id=user.id,
+        append_event(uow.session, actor=actor, action="user.roles-changed", record_type="user", record_id=user.id,
                      old={"roles": list(user.roles)}, new={"roles": list(names), "sessions_ended": ended},
                      reason=reason.strip(), at=now)
         after = repo.user_by_id(uow.session, user.id)
@@ -213,7 +227,7 @@ def unlock(engine: Engine, *, username: str, reason: str, admin: Actor | None = 
     with UnitOfWork(engine) as uow:
         user = _load(uow, username)
         repo.update_user(uow.session, user.id, failed_attempts=0, last_failed_at=None, locked_until=None)
-        append_event(uow.session, actor=actor, action="account-unlocked", record_type="user", record_id=user.id,
+        append_event(uow.session, actor=actor, action="user.unlocked", record_type="user", record_id=user.id,
                      old={"failed_attempts": user.failed_attempts,
                           "locked_until": user.locked_until.isoformat() if user.locked_until else None},
                      new={"failed_attempts": 0, "locked_until": None}, reason=reason.strip(), at=now)
@@ -243,7 +257,7 @@ def change_own_password(engine: Engine, *, actor: Actor, current_password: str, 
                          must_change_password=False)
         ended = repo.end_user_sessions(uow.session, user.id, now=now, reason="password-changed",
                                        except_id=keep_session_id)
-        append_event(uow.session, actor=actor, action="password-changed", record_type="user", record_id=user.id,
+        append_event(uow.session, actor=actor, action="user.password-changed", record_type="user", record_id=user.id,
                      new={"must_change_password": False, "other_sessions_ended": ended}, at=now)
         uow.commit()
 

@@ -61,13 +61,13 @@ def create_token(engine: Engine, *, client: str, scopes: str | list[str], admin:
         existing = repo.client_by_name(uow.session, client)
         if existing is None:
             cid = repo.insert_client(uow.session, name=client, created_by=admin.user_id if admin else None, now=now)
-            append_event(uow.session, actor=actor, action="api-client-registered", record_type="api_client",
+            append_event(uow.session, actor=actor, action="api_client.registered", record_type="api_client",
                          record_id=cid, new={"name": client}, at=now)
         else:
             cid = int(existing["id"])
         tid = repo.insert_token(uow.session, client_id=cid, prefix=made.prefix, token_hash=made.hash, scopes=names,
                                 created_by=admin.user_id if admin else None, now=now)
-        append_event(uow.session, actor=actor, action="api-token-created", record_type="api_client", record_id=cid,
+        append_event(uow.session, actor=actor, action="api_client.token-created", record_type="api_client", record_id=cid,
                      new={"token": tid, "prefix": made.prefix, "scopes": list(names)}, at=now)
         uow.commit()
     return made.token
@@ -81,7 +81,7 @@ def revoke_tokens(engine: Engine, *, client: str, reason: str, admin: Actor | No
         if existing is None:
             raise NotFound(f"there is no API client {client!r}; `bandgate token list` shows them")
         n = repo.revoke_client_tokens(uow.session, int(existing["id"]), now)
-        append_event(uow.session, actor=admin or SYSTEM_ACTOR, action="api-tokens-revoked",
+        append_event(uow.session, actor=admin or SYSTEM_ACTOR, action="api_client.tokens-revoked",
                      record_type="api_client", record_id=int(existing["id"]), new={"revoked": n},
                      reason=reason, at=now)
         uow.commit()

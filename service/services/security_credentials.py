@@ -91,7 +91,7 @@ def check_credentials(engine: Engine, a: Attempt, *, policy: ThrottlePolicy = Th
         with UnitOfWork(engine) as uow:
             repo.insert_attempt(uow.session, kind=a.kind, username_entered=a.username, user_id=None,
                                 address=a.address, outcome="unknown-user", now=a.now)
-            append_event(uow.session, actor=SYSTEM_ACTOR, action=f"{a.kind}-failed", record_type="user",
+            append_event(uow.session, actor=SYSTEM_ACTOR, action=f"user.{a.kind}-failed", record_type="user",
                          record_id="unknown", new={"username_entered": a.username[:64], "address": a.address,
                                                    "outcome": "unknown-user"}, at=a.now)
             uow.commit()
@@ -113,12 +113,12 @@ def check_credentials(engine: Engine, a: Attempt, *, policy: ThrottlePolicy = Th
             repo.update_user(uow.session, user.id, **values)
             repo.insert_attempt(uow.session, kind=a.kind, username_entered=a.username, user_id=user.id,
                                 address=a.address, outcome="wrong-password", now=a.now)
-            append_event(uow.session, actor=actor_of(fresh), action=f"{a.kind}-failed", record_type="user",
+            append_event(uow.session, actor=actor_of(fresh), action=f"user.{a.kind}-failed", record_type="user",
                          record_id=user.id, new={"address": a.address, "consecutive_failures": failures,
                                                  "outcome": "wrong-password"}, at=a.now)
             if lock:
                 ended = repo.end_user_sessions(uow.session, user.id, now=a.now, reason="locked")
-                append_event(uow.session, actor=SYSTEM_ACTOR, action="account-locked", record_type="user",
+                append_event(uow.session, actor=SYSTEM_ACTOR, action="user.locked", record_type="user",
                              record_id=user.id, old={"locked_until": None},
                              new={"locked_until": values["locked_until"].isoformat(),  # type: ignore[attr-defined]
                                   "consecutive_failures": failures, "sessions_ended": ended},

@@ -47,7 +47,7 @@ def sign_in(engine: Engine, *, username: str, password: str, address: str, user_
     def _open(uow: UnitOfWork, user: repo.UserRow) -> None:
         made["id"] = repo.insert_session(uow.session, token_hash=digest(token), user_id=user.id, now=now,
                                          address=address, user_agent=user_agent)
-        append_event(uow.session, actor=actor_of(user), action="signed-in", record_type="user",
+        append_event(uow.session, actor=actor_of(user), action="user.signed-in", record_type="user",
                      record_id=user.id, new={"address": address[:64], "session": made["id"]}, at=now)
 
     user = check_credentials(
@@ -61,7 +61,7 @@ def sign_in(engine: Engine, *, username: str, password: str, address: str, user_
 def _end(engine: Engine, *, row: repo.SessionRow, user: repo.UserRow, reason: str, now: datetime) -> None:
     with UnitOfWork(engine) as uow:
         if repo.end_session(uow.session, row.id, now=now, reason=reason):
-            append_event(uow.session, actor=actor_of(user), action="signed-out", record_type="user",
+            append_event(uow.session, actor=actor_of(user), action="user.signed-out", record_type="user",
                          record_id=user.id, new={"session": row.id, "how": reason}, at=now)
         uow.commit()
 
@@ -74,10 +74,10 @@ def current_session(engine: Engine, token: str | None, *, rules: SessionRules,
         return None
     now = now or utc_now()
     with UnitOfWork(engine, write=False) as uow:
-        row = repo.session_by_token_hash(uow.session, digest(token))
-        user = repo.user_by_id(uow.session, row.user_id) if row else None
-    if row is None or user is None:
+        found = repo.session_and_user(uow.session, digest(token))
+    if found is None:
         return None
+    row, user = found
     why = end_reason(created_at=row.created_at, last_seen_at=row.last_seen_at, ended_at=row.ended_at,
                      now=now, rules=rules)
     if why is None and not user.active:

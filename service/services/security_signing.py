@@ -51,7 +51,7 @@ class SignatureRefused(Forbidden):
 def _audit_refusal(engine: Engine, *, actor: Actor, action: Action, why: str, now: datetime,
                    extra: dict[str, object] | None = None) -> None:
     with UnitOfWork(engine) as uow:
-        append_event(uow.session, actor=actor, action="signature-refused", record_type="user",
+        append_event(uow.session, actor=actor, action="user.signature-refused", record_type="user",
                      record_id=actor.user_id, new={"signing_action": action.value, **(extra or {})},
                      reason=why, at=now)
         uow.commit()

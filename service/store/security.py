@@ -16,12 +16,14 @@ from sqlalchemy import (
     Column,
     DateTime,
     ForeignKey,
+    Index,
     Integer,
     MetaData,
     String,
     Table,
     Text,
     and_,
+    bindparam,
     func,
     insert,
     or_,
@@ -31,6 +33,10 @@ from sqlalchemy import (
 from sqlalchemy.orm import Session
 
 metadata = MetaData()
+
+# Columns migration 0003 adds to the records layer's ``users`` table.
+SECURITY_USER_COLUMNS = frozenset({"password_hash", "password_changed_at", "must_change_password",
+                                   "failed_attempts", "last_failed_at", "locked_until", "disabled_at"})
 
 
 def _ts(name: str, nullable: bool = False) -> Column:  # type: ignore[type-arg]
@@ -76,8 +82,9 @@ sign_in_attempts = Table(
     Column("kind", String(16), nullable=False),  # sign-in | signature
     Column("username_entered", String(64), nullable=False),
     Column("user_id", Integer, ForeignKey("users.id"), nullable=True, index=True),
-    Column("address", String(64), nullable=False, index=True),
+    Column("address", String(64), nullable=False),
     Column("outcome", String(24), nullable=False),  # ok | wrong-password | unknown-user | throttled | locked | disabled
+    Index("ix_sign_in_attempts_address_time", "address", "occurred_at"),
 )
 
 api_clients = Table(
@@ -217,6 +224,28 @@ def session_by_token_hash(s: Session, token_hash: str) -> SessionRow | None:
     return _session(row) if row else None
 
 
+def _session_and_user_statement() -> Any:
+    sess = user_sessions.alias("s")
+    cols = [c.label(f"s_{c.name}") for c in sess.c] + list(users.c)
+    return (select(*cols).join_from(sess, users, users.c.id == sess.c.user_id)
+            .where(sess.c.token_hash == bindparam("token_hash")))
+
+
+_SESSION_AND_USER = _session_and_user_statement()  # built once: it runs on every request
+
+
+def session_and_user(s: Session, token_hash: str) -> tuple[SessionRow, UserRow] | None:
+    """The session with this token hash and its person, in one query (run on every request)."""
+    row = s.execute(_SESSION_AND_USER, {"token_hash": token_hash}).first()
+    if row is None:
+        return None
+    m = row._mapping
+    session_row = SessionRow(id=m["s_id"], user_id=m["s_user_id"], created_at=utc(m["s_created_at"]),  # type: ignore[arg-type]
+                             last_seen_at=utc(m["s_last_seen_at"]), ended_at=utc(m["s_ended_at"]),  # type: ignore[arg-type]
+                             end_reason=m["s_end_reason"], signed_once=bool(m["s_signed_once"]))
+    return session_row, _user(row)
+
+
 def touch_session(s: Session, session_id: int, now: datetime) -> None:
     s.execute(update(user_sessions).where(and_(user_sessions.c.id == session_id,
                                                user_sessions.c.ended_at.is_(None))).values(last_seen_at=now))
@@ -304,14 +333,17 @@ def insert_token(s: Session, *, client_id: int, prefix: str, token_hash: str, sc
     return int(result.inserted_primary_key[0])  # type: ignore[index]
 
 
+_ACTIVE_TOKEN = (  # built once: it runs on every API request
+    select(api_tokens.c.id, api_tokens.c.scopes, api_tokens.c.last_used_at, api_clients.c.id.label("cid"),
+           api_clients.c.name)
+    .join(api_clients, api_clients.c.id == api_tokens.c.client_id)
+    .where(and_(api_tokens.c.token_hash == bindparam("token_hash"), api_tokens.c.revoked_at.is_(None),
+                api_clients.c.active.is_(True)))
+)
+
+
 def active_token(s: Session, token_hash: str) -> ClientToken | None:
-    row = s.execute(
-        select(api_tokens.c.id, api_tokens.c.scopes, api_tokens.c.last_used_at, api_clients.c.id.label("cid"),
-               api_clients.c.name)
-        .join(api_clients, api_clients.c.id == api_tokens.c.client_id)
-        .where(and_(api_tokens.c.token_hash == token_hash, api_tokens.c.revoked_at.is_(None),
-                    api_clients.c.active.is_(True)))
-    ).first()
+    row = s.execute(_ACTIVE_TOKEN, {"token_hash": token_hash}).first()
     if not row:
         return None
     m = row._mapping

@@ -67,3 +67,19 @@ def test_scopes() -> None:
     assert client_may(["read"], Action.view_records) and not client_may(["read"], Action.receive_lot)
     assert client_may(["submit"], Action.record_measurement) and not client_may(["submit"], Action.manage_methods)
     assert client_may(["manage"], Action.manage_methods) and not client_may(["manage"], Action.manage_users)
+
+
+def test_signing_map_per_record_and_meaning() -> None:
+    from service.release.permissions import NotEntitledToSign, check_may_sign_record
+
+    check_may_sign_record(["quality"], record_type="lot", meaning="released")
+    check_may_sign_record(["reviewer"], record_type="lot", meaning="rejected", action=Action.sign_review)
+    for roles, rt, meaning, action in [
+        (["technician"], "lot", "released", None),
+        (["administrator"], "specification_version", "approved", None),
+        (["supervisor"], "lot", "rejected", Action.sign_disposition),  # QA's rejection is not the reviewer's
+        (["quality"], "measurement", "invalidated", None),
+        (["quality"], "lot", "blessed", None),  # unknown meaning: closed
+    ]:
+        with pytest.raises(NotEntitledToSign):
+            check_may_sign_record(roles, record_type=rt, meaning=meaning, action=action)

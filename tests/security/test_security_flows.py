@@ -50,7 +50,7 @@ def test_a_technician_cannot_sign(site: Site) -> None:
         with pytest.raises(SignatureRefused, match="do not allow"):
             confirm_signer(site.engine, signed_in=tech, username="tess.tech", password=PASSWORD, action=action,
                            address="10.0.0.5", now=T0)
-    refused = _events(site, "signature-refused")
+    refused = _events(site, "user.signature-refused")
     assert len(refused) == 3 and all(e["username"] == "tess.tech" for e in refused)
 
 
@@ -68,7 +68,7 @@ def test_an_administrator_cannot_sign_for_another_person(site: Site) -> None:
     with pytest.raises(SignatureRefused, match="always your own"):
         confirm_signer(site.engine, signed_in=both, username="quinn.qa", password=PASSWORD,
                        action=Action.sign_disposition, address="10.0.0.5", now=T0)
-    refused = _events(site, "signature-refused")
+    refused = _events(site, "user.signature-refused")
     assert [e["username"] for e in refused] == ["ada.admin", "abe.both"]
     assert refused[1]["new"]["user_id_entered"] == "quinn.qa"
     # Control: abe signing as abe is accepted, and the signer returned is abe.
@@ -83,7 +83,7 @@ def test_a_wrong_password_at_signing_is_refused_and_audited(site: Site) -> None:
     with pytest.raises(SignatureRefused, match="not right; nothing was signed"):
         confirm_signer(site.engine, signed_in=qa, username="quinn.qa", password="not my password at all",
                        action=Action.sign_disposition, address="10.0.0.5", now=T0)
-    failed = _events(site, "signature-failed")
+    failed = _events(site, "user.signature-failed")
     assert len(failed) == 1 and failed[0]["username"] == "quinn.qa"
     assert failed[0]["new"]["outcome"] == "wrong-password"
     # Control: the right password signs; the first signature needed the user id, later ones only the password.
@@ -112,7 +112,7 @@ def test_after_an_admin_reset_the_person_must_choose_a_password_before_signing(s
     assert fresh is not None and not fresh.must_change_password
     confirm_signer(site.engine, signed_in=fresh, username="quinn.qa", password="amber kettle meadow 7",
                    action=Action.sign_disposition, address="10.0.0.5", now=T0)
-    assert len(_events(site, "password-reset")) == 1 and len(_events(site, "password-changed")) == 1
+    assert len(_events(site, "user.password-reset")) == 1 and len(_events(site, "user.password-changed")) == 1
 
 
 # ------------------------------------------------------------------ lock-out
@@ -126,10 +126,10 @@ def test_twenty_wrong_passwords_lock_the_account_and_the_lock_is_audited(site: S
             sign_in(site.engine, username="tess.tech", password=f"wrong password number {i}", address="10.0.0.5",
                     now=now)
         assert err.value.locked == (i == 20), i
-    locks = _events(site, "account-locked")
+    locks = _events(site, "user.locked")
     assert len(locks) == 1 and locks[0]["record_id"] == str(accounts.list_people(site.engine)[0].id)
     assert locks[0]["new"]["consecutive_failures"] == 20
-    assert len(_events(site, "sign-in-failed")) == 20
+    assert len(_events(site, "user.sign-in-failed")) == 20
     # The right password is now refused too, until an administrator unlocks the account.
     with pytest.raises(CredentialsRefused, match="locked"):
         sign_in(site.engine, username="tess.tech", password=PASSWORD, address="10.0.0.5", now=now + timedelta(minutes=1))
@@ -147,7 +147,7 @@ def test_nineteen_wrong_passwords_do_not_lock_and_a_success_resets_the_count(sit
             sign_in(site.engine, username="tess.tech", password="nope nope nope", address="10.0.0.5", now=now)
     sign_in(site.engine, username="tess.tech", password=PASSWORD, address="10.0.0.5", now=now + timedelta(seconds=61))
     assert accounts.list_people(site.engine)[0].failed_attempts == 0
-    assert not _events(site, "account-locked")
+    assert not _events(site, "user.locked")
 
 
 def test_throttling_refuses_fast_retries_without_checking_the_password(site: Site) -> None:
@@ -158,13 +158,13 @@ def test_throttling_refuses_fast_retries_without_checking_the_password(site: Sit
     with pytest.raises(CredentialsRefused, match="wait 1 seconds") as err:
         sign_in(site.engine, username="tess.tech", password=PASSWORD, address="10.0.0.5", now=T0)
     assert err.value.retry_after == 1
-    assert len(_events(site, "sign-in-failed")) == 5  # the throttled attempt checked nothing
+    assert len(_events(site, "user.sign-in-failed")) == 5  # the throttled attempt checked nothing
 
 
 def test_unknown_user_is_refused_like_a_wrong_password_and_audited(site: Site) -> None:
     with pytest.raises(CredentialsRefused, match="not right"):
         sign_in(site.engine, username="nobody.here", password=PASSWORD, address="10.0.0.5", now=T0)
-    assert _events(site, "sign-in-failed")[0]["new"]["username_entered"] == "nobody.here"
+    assert _events(site, "user.sign-in-failed")[0]["new"]["username_entered"] == "nobody.here"
 
 
 # ------------------------------------------------------------------ sessions over HTTP
@@ -181,8 +181,8 @@ def test_a_session_is_dead_after_logout(site: Site) -> None:
     r = replay.get("/account/password")
     assert r.status_code == 303 and r.headers["location"].startswith("/login")
     assert current_session(site.engine, token, rules=RULES, now=T0) is None
-    assert [e["new"]["how"] for e in _events(site, "signed-out")] == ["signed-out"]
-    assert len(_events(site, "signed-in")) == 1
+    assert [e["new"]["how"] for e in _events(site, "user.signed-out")] == ["signed-out"]
+    assert len(_events(site, "user.signed-in")) == 1
 
 
 def test_a_session_is_dead_after_the_idle_timeout(site: Site) -> None:
@@ -195,7 +195,7 @@ def test_a_session_is_dead_after_the_idle_timeout(site: Site) -> None:
     site.clock.advance(minutes=15)
     r = c.get("/account/password")
     assert r.status_code == 303 and r.headers["location"].startswith("/login")
-    assert [e["new"]["how"] for e in _events(site, "signed-out")] == ["idle"]
+    assert [e["new"]["how"] for e in _events(site, "user.signed-out")] == ["idle"]
 
 
 def test_absolute_timeout_ends_a_busy_session(site: Site) -> None:
@@ -222,7 +222,7 @@ def test_disabling_a_user_ends_all_their_sessions(site: Site) -> None:
     assert a.get("/account/password").status_code == 200 and b.get("/account/password").status_code == 200
     accounts.set_active(site.engine, username="tess.tech", active=False, reason="left the company")
     assert a.get("/account/password").status_code == 303 and b.get("/account/password").status_code == 303
-    assert _events(site, "user-disabled")[0]["new"]["sessions_ended"] == 2
+    assert _events(site, "user.disabled")[0]["new"]["sessions_ended"] == 2
     with pytest.raises(CredentialsRefused, match="disabled"):
         sign_in(site.engine, username="tess.tech", password=PASSWORD, address="x", now=T0)
 
@@ -327,3 +327,82 @@ def test_an_oversized_body_is_refused_while_streaming(site: Site) -> None:
     r = small.client().post("/login", content=b"x" * (limit + 1),
                             headers={"content-type": "application/x-www-form-urlencoded"})
     assert r.status_code == 413
+
+
+def test_migrated_security_schema_matches_the_store_tables(db_url: str) -> None:
+    from alembic.autogenerate import compare_metadata
+    from alembic.migration import MigrationContext
+
+    from service.store.engine import make_engine
+    from service.store.security import metadata
+
+    engine = make_engine(db_url)
+    with engine.connect() as conn:
+        diff = compare_metadata(MigrationContext.configure(conn, opts={"compare_type": True}), metadata)
+    engine.dispose()
+    ours = set(metadata.tables) - {"users"}  # users: declared here only with the columns we use
+
+    def ours_only(d: tuple) -> bool:  # type: ignore[type-arg]
+        if d[0] in ("remove_table", "add_table"):
+            return d[1].name in ours
+        if d[0] in ("remove_index", "add_index"):
+            return d[1].table.name in ours
+        if d[0] in ("remove_column", "add_column"):
+            return d[2] in ours or (d[2] == "users" and d[0] == "add_column")
+        return True
+
+    assert [d for d in diff if ours_only(d)] == []
+
+
+def test_a_role_change_is_audited_with_old_and_new_and_applies_at_once(site: Site) -> None:
+    make_person(site.engine, "tess.tech", "technician")
+    c = site.sign_in("tess.tech")
+    assert c.get("/account/password").status_code == 200
+    accounts.set_roles(site.engine, username="tess.tech", roles="technician,supervisor", reason="promoted")
+    changes = _events(site, "user.roles-changed")
+    assert len(changes) == 1 and changes[0]["reason"] == "promoted"
+    assert changes[0]["new"]["roles"] == ["supervisor", "technician"]
+    assert c.get("/account/password").status_code == 303  # the old session (old rights) has ended
+    with pytest.raises(Exception, match="reason"):
+        accounts.set_roles(site.engine, username="tess.tech", roles="quality", reason=" ")
+
+
+def test_admin_page_shows_people_and_attempts_and_its_forms_work(site: Site) -> None:
+    make_person(site.engine, "ada.admin", "administrator")
+    make_person(site.engine, "tess.tech", "technician")
+    bad = site.client().post("/login", data={"username": "tess.tech", "password": "wrong wrong wrong"})
+    assert bad.status_code == 401 and "not right" in bad.text and "wrong wrong" not in bad.text
+    c = site.sign_in("ada.admin")
+    token = c.cookies.get("bandgate_session")
+    page = c.get("/admin/users")
+    assert page.status_code == 200 and "tess.tech" in page.text and "wrong-password" in page.text
+    r = c.post("/admin/users/tess.tech/reset-password", data={"reason": "forgot", "csrf_token": site.csrf(token)})
+    assert r.status_code == 200 and "temporary password (shown once)" in r.text
+    r = c.post("/admin/users/tess.tech/disable", data={"reason": "", "csrf_token": site.csrf(token)})
+    assert r.status_code == 422 and "reason" in r.text
+    r = c.post("/admin/users/ada.admin/disable", data={"reason": "oops", "csrf_token": site.csrf(token)})
+    assert r.status_code == 422 and "your own account" in r.text
+    # A technician may not see the page at all; one whose password was reset is sent to choose one first.
+    tom = make_person(site.engine, "tom.tech", "technician")
+    assert site.client(open_session(site.engine, tom.id, now=site.clock())).get("/admin/users").status_code == 403
+    tess = site.client(open_session(site.engine, accounts.list_people(site.engine)[1].id, now=site.clock()))
+    assert tess.get("/admin/users").headers["location"] == "/account/password"
+
+
+def test_login_throttling_answers_429_with_retry_after(site: Site) -> None:
+    make_person(site.engine, "tess.tech", "technician")
+    c = site.client()
+    for _ in range(5):
+        assert c.post("/login", data={"username": "tess.tech", "password": "wrong wrong wrong"}).status_code == 401
+    r = c.post("/login", data={"username": "tess.tech", "password": PASSWORD})
+    assert r.status_code == 429 and r.headers["retry-after"] == "1" and "wait" in r.text
+    site.clock.advance(seconds=2)
+    assert c.post("/login", data={"username": "tess.tech", "password": PASSWORD}).status_code == 303
+
+
+def test_next_after_sign_in_is_only_a_local_path(site: Site) -> None:
+    make_person(site.engine, "tess.tech", "technician")
+    for target, expected in [("/account/password", "/account/password"), ("https://evil.example/", "/"),
+                             ("//evil.example", "/"), ("/\\evil", "/")]:
+        r = site.client().post("/login", data={"username": "tess.tech", "password": PASSWORD, "next": target})
+        assert r.headers["location"] == expected
