@@ -74,6 +74,13 @@ def age(value: datetime | date | None, now: datetime | None = None) -> str:
     return f"{int(seconds // 86400)} days"
 
 
+def compact_json(value: Any) -> str:
+    """JSON for reading (not for scripts): unescaped text; the template's autoescape makes it safe."""
+    import json
+
+    return json.dumps(value, ensure_ascii=False, default=str)
+
+
 def utc_text(value: datetime | None) -> str:
     if value is None:
         return "—"
@@ -154,7 +161,7 @@ def install(app: FastAPI) -> None:
 
     templates.env.globals.update(caution_short=CAUTION_SHORT, tone=tone, age=age, utc_text=utc_text,
                                  page_person=page_person)
-    templates.env.filters.update(age=age, utc=utc_text)
+    templates.env.filters.update(age=age, utc=utc_text, compact_json=compact_json)
 
     @app.exception_handler(LoginNeeded)
     async def _login_needed(request: Request, exc: LoginNeeded) -> Response:
