@@ -174,18 +174,28 @@ def measurement_context(engine: Any, measurement_id: int, *, show_difference: bo
 
 # --- lots ---------------------------------------------------------------------------------------
 
-def _changes_line(lot: Any) -> dict[str, Any]:
+def _changes_line(lot: Any, *, changed_in_trail: bool = False) -> dict[str, Any]:
     """Annex 11 §8.2: does the printout show that data changed after first entry?
 
     Records are append-only: a measurement is never edited; what can happen after entry is that a
-    measurement is set aside (invalidated, with its cause) and a retest added. Those are listed.
+    measurement is set aside (invalidated, with its cause) and a retest added. Those are listed;
+    the audit trail's own verdict (any change or invalidation event on the lot's records) counts too.
     """
     invalidated = [m for m in lot.measurements if m.invalidated]
-    if not invalidated:
+    if not invalidated and not changed_in_trail:
         return {"changed": False, "text": "No recorded data of this lot was changed or set aside after first entry."}
     items = "; ".join(f"measurement {m.id} (container {m.container}) invalidated: {m.invalidation_cause}"
                       for m in invalidated)
+    if not items:
+        return {"changed": True, "text": "Data of this lot was changed after first entry; the audit trail of this "
+                                         "lot shows each change with its old and new values and reason."}
     return {"changed": True, "text": f"Data set aside after first entry (originals kept and shown): {items}."}
+
+
+def _changed_in_trail(engine: Any, code: str) -> bool:
+    from service.services import audit_trail
+
+    return bool(audit_trail.lot_record(engine, code).get("changed_after_first_entry"))
 
 
 def lot_context(engine: Any, code: str, *, person: Person, with_plots: bool = False) -> dict[str, Any]:
@@ -204,7 +214,7 @@ def lot_context(engine: Any, code: str, *, person: Person, with_plots: bool = Fa
     may = person.may
     return {
         "lot": lot, "plan": lot.plan, "by_container": by_container, "failing": failing, "evidence": evidence,
-        "changes": _changes_line(lot),
+        "changes": _changes_line(lot, changed_in_trail=_changed_in_trail(engine, code)),
         "can_upload": lot.state in ("quarantine", "testing") and "record_measurement" in may,
         "can_review": lot.state == "awaiting_review" and "sign_review" in may,
         "can_dispose": lot.state == "awaiting_disposition" and "sign_disposition" in may,
