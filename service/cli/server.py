@@ -84,6 +84,7 @@ def _demo(args: argparse.Namespace) -> int:
     url = os.environ.get("BANDGATE_DATABASE_URL", DEMO_DATABASE_URL)
     settings = Settings(database_url=url, mode=Mode.demo)
     _ensure_sqlite_dir(url)
+    _check_demo_database(settings)  # before migrating: never touch a database that is not the demo one
     upgrade(url)
     logins = _seed_demo(settings)
     print(f"Bandgate {__version__} demo on http://{args.host}:{args.port}/", flush=True)
@@ -92,6 +93,14 @@ def _demo(args: argparse.Namespace) -> int:
         print(f"  login {user:<12} password {password:<24} role {role}", flush=True)
     sys.stdout.flush()
     return _run_server(settings, args.host, args.port)
+
+
+def _check_demo_database(settings: Settings) -> None:
+    try:
+        from service.services.demo import check_demo_database
+    except ImportError:
+        return
+    check_demo_database(settings)
 
 
 def _seed_demo(settings: Settings) -> list[tuple[str, str, str]]:

@@ -16,6 +16,7 @@ from service.release.lot_states import (
     allowed_steps,
     container_outcome,
     next_state,
+    outcome_from_counts,
     outcome_step,
 )
 from service.release.sampling import PlanKind, SamplingPlan, compute_plan, plan_sizes
@@ -25,6 +26,6 @@ __all__ = [
     "ALLOWED_STEPS", "Actor", "ContainerOutcome", "ContainerResult", "GENESIS_HASH", "LotState", "LotStep",
     "MEANING_TEXT", "Meaning", "PlanKind", "RECORD_MEANINGS", "STATE_LABELS", "SamplingPlan",
     "SeparationOfDuties", "StepRefused", "allowed_steps", "canonical_json", "check_reviewer_did_not_measure",
-    "compute_plan", "container_outcome", "event_hash", "meaning_allowed", "next_state", "outcome_step",
+    "compute_plan", "container_outcome", "event_hash", "meaning_allowed", "next_state", "outcome_from_counts", "outcome_step",
     "plan_sizes", "record_digest", "sha256_hex",
 ]

@@ -121,6 +121,16 @@ def outcome_step(results: list[ContainerResult] | tuple[ContainerResult, ...]) -
     return LotStep.all_passed
 
 
+def outcome_from_counts(*, sampled: int, with_result: int, failed: int) -> LotStep | None:
+    """:func:`outcome_step` from counts (for lots with many containers, counted by the database).
+
+    ``sampled`` containers in the plan, ``with_result`` of them passed or failed, ``failed`` failed.
+    """
+    if sampled <= 0 or with_result < sampled:
+        return None
+    return LotStep.failure_found if failed > 0 else LotStep.all_passed
+
+
 def container_outcome(verdicts: list[str]) -> ContainerOutcome:
     """A container's outcome from the verdicts of its *current* (not invalidated) evaluations.
 

@@ -35,8 +35,7 @@ def _decide(engine: Engine, actor: Actor, *, lot_code: str, step: LotStep, outco
         lot = sh.lot(s, lot_code)
         if repo.decision_for(s, lot.id) is not None:  # type: ignore[arg-type]
             raise Conflict(f"lot {lot.code} has already been decided ({LotState(lot.state).label})")
-        ev = evidence(s, lot, with_documents=False)
-        check_reviewer_did_not_measure(reviewer=actor, measured_by=ev.measured_by)
+        check_reviewer_did_not_measure(reviewer=actor, measured_by=repo.operators_of_lot(s, lot.id))  # type: ignore[arg-type]
         old_state = lot.state
         set_state(s, actor, lot, step, reason=reason)  # raises StepRefused from a wrong state
         sig = sh.sign(s, actor, record_type="lot", record_id=lot.id, meaning=meaning, reason=reason,  # type: ignore[arg-type]

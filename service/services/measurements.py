@@ -30,7 +30,9 @@ from service import __version__
 from service.errors import BandgateError, Conflict, FieldProblem, InvalidInput, NotFound, UnusableInput
 from service.release.actor import Actor
 from service.release.digests import canonical_json, sha256_hex
-from service.release.lot_states import ContainerOutcome, LotState, LotStep, next_state, outcome_step
+from service.release.lot_states import (
+    ContainerOutcome, LotState, LotStep, container_outcome, next_state, outcome_from_counts,
+)
 from service.store import repositories as repo
 from service.store.tables import Evaluation, Instrument, Lot, LotContainer, Measurement, utc_now
 from service.store.unit_of_work import UnitOfWork
@@ -80,7 +82,8 @@ def settle_lot(session: Session, actor: Actor, lot: Lot) -> None:
     if lot.state != LotState.testing.value:
         return
     session.flush()
-    step = outcome_step(evidence(session, lot, with_documents=False).results)
+    sampled, with_result, failed = repo.lot_progress(session, lot.id)  # type: ignore[arg-type]
+    step = outcome_from_counts(sampled=sampled, with_result=with_result, failed=failed)
     if step is not None:
         set_state(session, actor, lot, step)
 
@@ -92,10 +95,9 @@ def _refusal(session: Session, lot: Lot, container: LotContainer, inst_ok: tuple
     if not container.selected:
         return (f"container {container.number} is not in the sampling plan of lot {lot.code}; "
                 "measure one of the containers the plan selected")
-    ev = evidence(session, lot, with_documents=False)
-    outcome = next((c.outcome for c in ev.containers if c.number == container.number), "untested")
-    if outcome != ContainerOutcome.untested.value:
-        return (f"container {container.number} already has a result ({outcome}); a retest needs a reviewer to "
+    outcome = container_outcome(repo.container_verdicts(session, container.id))  # type: ignore[arg-type]
+    if outcome is not ContainerOutcome.untested:
+        return (f"container {container.number} already has a result ({outcome.value}); a retest needs a reviewer to "
                 "invalidate that measurement with an assignable cause first")
     if not inst_ok[0]:
         return inst_ok[1]
@@ -191,11 +193,10 @@ def record_measurement(engine: Engine, actor: Actor, *, lot_code: str, container
         ok, _last, _until, text = qualification(s, inst, check_days=check_days)
         return lot, cont, inst, _refusal(s, lot, cont, (ok, text))
 
-    with UnitOfWork(engine, write=False) as uow:
-        lot, _c, _i, refusal = resolve(uow.session)
-        basis = _basis(uow.session, lot, load=True)
-    status, reason, evaluation = "refused", refusal or basis.missing or "", None
-    if refusal is None and basis.missing is None:
+    with UnitOfWork(engine, write=False) as uow:  # no lock: look up what the evaluation rests on
+        basis = _basis(uow.session, sh.lot(uow.session, lot_code), load=True)
+    status, reason, evaluation = "refused", basis.missing or "", None
+    if basis.missing is None:
         status, reason, evaluation = _evaluate(data, file_name, basis)
 
     with UnitOfWork(engine) as uow:

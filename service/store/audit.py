@@ -58,9 +58,12 @@ def append_event(
     at: datetime | None = None,
 ) -> AuditEvent:
     """Append one event to the chain. Call only inside a writing UnitOfWork (it holds the lock)."""
-    prev = last_event(session)
+    head = session.info.get("audit_head")  # (seq, hash) of the last event this transaction appended
+    if head is None:
+        prev = last_event(session)
+        head = (prev.seq, prev.hash) if prev else (0, GENESIS_HASH)
     ev = AuditEvent(
-        seq=(prev.seq + 1) if prev else 1,
+        seq=head[0] + 1,
         occurred_at=(at or utc_now()).astimezone(timezone.utc),
         user_id=actor.user_id or None,
         username=actor.username,
@@ -70,12 +73,13 @@ def append_event(
         old_values=canonical_json(old or {}),
         new_values=canonical_json(new or {}),
         reason=reason,
-        prev_hash=prev.hash if prev else GENESIS_HASH,
+        prev_hash=head[1],
         hash="",
     )
     ev.hash = event_hash(prev_hash=ev.prev_hash, fields=event_fields(ev))
     session.add(ev)
     session.flush()
+    session.info["audit_head"] = (ev.seq, ev.hash)
     return ev
 
 

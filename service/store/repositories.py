@@ -238,3 +238,39 @@ def container_by_id(session: Session, container_id: int) -> LotContainer | None:
 
 def lot_by_id(session: Session, lot_id: int) -> Lot | None:
     return session.get(Lot, lot_id)
+
+
+_CURRENT_RESULTS = (
+    "FROM lot_containers c "
+    "LEFT JOIN measurements m ON m.container_id = c.id AND m.status = 'accepted' "
+    "AND NOT EXISTS (SELECT 1 FROM measurement_invalidations i WHERE i.measurement_id = m.id) "
+    "LEFT JOIN evaluations e ON e.measurement_id = m.id "
+)
+
+
+def container_verdicts(session: Session, container_id: int) -> list[str]:
+    """Verdicts of the container's current (accepted, evaluated, not invalidated) measurements."""
+    from sqlalchemy import text
+
+    rows = session.connection().execute(text(
+        "SELECT e.verdict " + _CURRENT_RESULTS + "WHERE c.id = :c AND e.verdict IS NOT NULL ORDER BY m.id"),
+        {"c": container_id}).all()
+    return [str(r[0]) for r in rows]
+
+
+def lot_progress(session: Session, lot_id: int) -> tuple[int, int, int]:
+    """(containers in the plan, of them with a pass or fail result, of them failed) -- one aggregate query."""
+    from sqlalchemy import text
+
+    row = session.connection().execute(text(
+        "SELECT COUNT(*), COALESCE(SUM(r.has_result), 0), COALESCE(SUM(r.has_fail), 0) FROM ("
+        "SELECT c.id, MAX(CASE WHEN e.verdict IN ('pass', 'fail') THEN 1 ELSE 0 END) AS has_result, "
+        "MAX(CASE WHEN e.verdict = 'fail' THEN 1 ELSE 0 END) AS has_fail "
+        + _CURRENT_RESULTS + "WHERE c.lot_id = :lot AND c.selected = :yes GROUP BY c.id) r"),
+        {"lot": lot_id, "yes": True}).one()
+    return int(row[0]), int(row[1]), int(row[2])
+
+
+def operators_of_lot(session: Session, lot_id: int) -> set[int]:
+    rows = session.exec(select(Measurement.operator_id).where(Measurement.lot_id == lot_id).distinct()).all()
+    return {int(r) for r in rows}

@@ -13,6 +13,7 @@ from service import __version__
 from service.config import Settings, get_settings
 from service.store.engine import make_engine
 from service.store.migrations import current_revision, ensure_at_head, head_revision
+from service.web.api import install_api
 from service.web.auth import public
 from service.web.errors import install_error_handlers
 from service.web.guard import app_dependencies, install_security
@@ -47,6 +48,7 @@ def create_app(settings: Settings | None = None, *, check_migrations: bool = Tru
     app.state.templates = templates
     install_error_handlers(app)
     install_security(app)
+    install_api(app)
     from service.web.pages import install_pages
 
     install_pages(app)

@@ -9,7 +9,7 @@ import pytest
 from service.errors import Conflict
 from service.release import (
     ALLOWED_STEPS, ContainerOutcome, ContainerResult, LotState, LotStep, StepRefused, allowed_steps,
-    container_outcome, next_state, outcome_step,
+    container_outcome, next_state, outcome_from_counts, outcome_step,
 )
 
 EXPECTED = {
@@ -76,3 +76,12 @@ def test_container_outcome_from_verdicts() -> None:
     assert container_outcome(["invalid"]) is ContainerOutcome.untested  # an unusable spectrum is no result
     assert container_outcome(["invalid", "pass"]) is ContainerOutcome.passed
     assert container_outcome(["fail", "pass"]) is ContainerOutcome.failed  # no testing into compliance
+
+
+def test_outcome_from_counts_agrees_with_outcome_step() -> None:
+    P, F, U = ContainerOutcome.passed, ContainerOutcome.failed, ContainerOutcome.untested
+    for combo in itertools.chain.from_iterable(itertools.product((P, F, U), repeat=k) for k in range(0, 5)):
+        results = _r(*combo)
+        counts = dict(sampled=len(combo), with_result=sum(o is not U for o in combo),
+                      failed=sum(o is F for o in combo))
+        assert outcome_from_counts(**counts) is outcome_step(results), combo

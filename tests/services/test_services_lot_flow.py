@@ -181,3 +181,32 @@ def test_spec_versions_draft_approved_superseded(lab) -> None:  # type: ignore[n
         uc.create_spec_draft(lab.engine, lab.qa, material_code="TOL-01", document={"material": "TOL-01"})
     lot = _lot(lab, containers=1)
     assert _measure(lab, lot, 1, "toluene").evaluation.spec_version == 2
+
+
+def _drop_triggers(engine, table: str) -> None:  # type: ignore[no-untyped-def]
+    from sqlalchemy import text
+
+    with engine.begin() as conn:
+        if engine.dialect.name == "sqlite":
+            conn.execute(text(f"DROP TRIGGER {table}_no_update"))
+        else:
+            conn.execute(text(f"ALTER TABLE {table} DISABLE TRIGGER USER"))
+
+
+def test_changed_file_or_evaluation_after_signing_is_caught(lab) -> None:  # type: ignore[no-untyped-def]
+    from sqlalchemy import text
+
+    lot = _lot(lab, containers=1)
+    m = _measure(lab, lot, 1, "toluene")
+    uc.dispose_lot(lab.engine, lab.qa, lot_code=lot.code, outcome="released")
+    assert uc.verify_audit(lab.engine).ok
+    _drop_triggers(lab.engine, "evaluations")
+    with lab.engine.begin() as conn:  # someone turns a result around behind the database's back
+        conn.execute(text("UPDATE evaluations SET verdict = 'fail' WHERE measurement_id = :m"), {"m": m.id})
+    report = uc.verify_audit(lab.engine)
+    assert not report.ok and f"lot {lot.id} has changed since it was signed" in report.first_problem
+    _drop_triggers(lab.engine, "stored_files")
+    with lab.engine.begin() as conn:
+        conn.execute(text("UPDATE stored_files SET content = :c WHERE sha256 = :s"), {"c": b"swapped", "s": m.sha256})
+    problems = uc.verify_audit(lab.engine).problems
+    assert any("no longer match the SHA-256" in p for p in problems)
