@@ -6,7 +6,7 @@ import re
 from html.parser import HTMLParser
 from pathlib import Path
 
-from conftest import Site
+from pages_site import Site
 from pages_lab import PEOPLE, failing_upload, passing_upload
 from service import services as uc
 

@@ -16,7 +16,7 @@ from pathlib import Path
 import pytest
 
 from browser_harness import OUTPUT, REPO, chromium, chromium_path, live_server
-from conftest import SECRET, needs_readers
+from pages_site import SECRET, needs_readers
 from pages_lab import PASSWORD, PEOPLE, failing_upload, passing_upload, seed_lab
 from service.store.engine import make_engine
 from service.store.migrations import upgrade

@@ -7,7 +7,7 @@ from datetime import date
 
 import pytest
 
-from conftest import Site, csrf
+from pages_site import Site, csrf
 from pages_lab import PASSWORD, PEOPLE, failing_upload, passing_upload
 from service import services as uc
 

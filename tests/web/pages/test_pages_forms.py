@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import re
 
-from conftest import Site, csrf
+from pages_site import Site, csrf
 from pages_lab import PASSWORD, PEOPLE, WRONG_FILE, failing_upload
 from records_factories import make_material
 from service import services as uc
