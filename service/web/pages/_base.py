@@ -160,7 +160,8 @@ def install(app: FastAPI) -> None:
             return None
 
     templates.env.globals.update(caution_short=CAUTION_SHORT, tone=tone, age=age, utc_text=utc_text,
-                                 page_person=page_person)
+                                 page_person=page_person,
+                                 utc_now_text=lambda: datetime.now(timezone.utc).strftime("%Y-%m-%d %H:%M"))
     templates.env.filters.update(age=age, utc=utc_text, compact_json=compact_json)
 
     @app.exception_handler(LoginNeeded)
