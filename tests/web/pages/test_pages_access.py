@@ -87,3 +87,40 @@ def test_state_and_text_colours_meet_wcag_aa_on_every_background() -> None:
         for bg in backgrounds:
             assert _contrast(var[name], bg) >= 4.5, (name, bg, round(_contrast(var[name], bg), 2))
     assert round(_contrast("#000000", "#ffffff"), 1) == 21.0  # the formula's own check value
+
+
+class _Links(HTMLParser):
+    def __init__(self) -> None:
+        super().__init__()
+        self.hrefs: list[str] = []
+
+    def handle_starttag(self, tag: str, attrs: list[tuple[str, str | None]]) -> None:
+        href = dict(attrs).get("href") if tag == "a" else None
+        if href and href.startswith("/") and not href.startswith("//"):
+            self.hrefs.append(href.split("#")[0])
+
+
+def test_no_page_shows_a_link_its_reader_may_not_follow(lab_site: Site) -> None:
+    """Crawl from the work queue as each role: every link shown answers 200 (never 403, 404 or 500)."""
+    from datetime import date
+
+    tech = uc.get_actor(lab_site.engine, PEOPLE["tech"].username)
+    code = uc.receive_lot(lab_site.engine, tech, material_code="TOL-01", supplier_name="Northwind Solvents",
+                          supplier_lot="NS-8", containers=1, received_on=date(2026, 12, 1)).code
+    uc.record_measurement(lab_site.engine, tech, lot_code=code, container=1, instrument_code="FTIR-1",
+                          data=failing_upload(), file_name="c1.csv")
+    for who in ("tech", "sup", "qa"):
+        client = lab_site.client(who)
+        seen: set[str] = set()
+        todo = ["/", f"/lots/{code}"]
+        while todo and len(seen) < 60:
+            path = todo.pop(0)
+            if path in seen or path.startswith(("/logout", "/static/")) or path.endswith("/file"):
+                continue
+            seen.add(path)
+            r = client.get(path)
+            assert r.status_code == 200, (who, path, r.status_code)
+            links = _Links()
+            links.feed(r.text)
+            todo.extend(h for h in links.hrefs if h not in seen)
+        assert len(seen) > 8, (who, sorted(seen))
