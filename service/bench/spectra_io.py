@@ -83,10 +83,10 @@ def cases() -> list[BenchCase | BenchReport]:
     from service.spectra import write_jcamp
 
     out: list[BenchCase | BenchReport] = [
-        BenchCase(OURS, _read, setup=lambda: _file("difdup"), repeats=30, aim="≥ 10× faster than the reference"),
+        BenchCase(OURS, _read, setup=lambda: _file("difdup"), repeats=60, aim="≥ 10× faster than the reference"),
     ]
     if _jcamp_available():
-        out.append(BenchCase(REFERENCE, _jcamp_read, setup=_reference_setup, repeats=10))
+        out.append(BenchCase(REFERENCE, _jcamp_read, setup=_reference_setup, repeats=15))
     else:
         out.append(BenchReport(REFERENCE, {"skipped": "the jcamp package is not installed (pip install '.[test]')"}))
     out += [
@@ -107,5 +107,8 @@ def derived(results: dict[str, BenchResult]) -> list[dict[str, Any]]:
         "ratio": round(ref.median_ms / ours.median_ms, 1),
         "ours_median_ms": round(ours.median_ms, 3),
         "reference_median_ms": round(ref.median_ms, 3),
+        # on a busy machine a short call is disturbed more often than a long one; the 10th
+        # percentiles compare the least disturbed runs of each
+        "ratio_p10": round(ref.p10_ms / ours.p10_ms, 1) if ours.p10_ms > 0 else None,
         "aim": "≥ 10",
     }]

@@ -55,7 +55,8 @@ def to_transmittance(spectrum: Spectrum) -> Spectrum:
     if spectrum.kind is YKind.transmittance:
         return spectrum
     return spectrum.with_values(
-        _fraction(spectrum), YKind.transmittance, note=f"converted from {spectrum.kind.value} to transmittance (fraction)"
+        _fraction(spectrum), YKind.transmittance,
+        note=f"converted from {spectrum.kind.value} to transmittance (fraction)",
     )
 
 

@@ -74,8 +74,9 @@ def sniff(text: str) -> tuple[str | None, str, bool] | None:
             rows = [_split(ln, sep) for ln in tail]
             good = [r for r in rows if _numeric_fields(r, decimal_comma)]
             if len(good) >= max(2, int(0.9 * len(rows))):
-                widths = {len([f for f in r if f.strip()]) for r in good}
-                if len(widths) == 1:
+                widths = [len([f for f in r if f.strip()]) for r in good]
+                common = max(set(widths), key=widths.count)
+                if widths.count(common) >= 0.9 * len(widths):
                     return sep, name, decimal_comma
     return None
 
@@ -173,9 +174,12 @@ def _parse_rows(
         tokens = body.split()
         if len(tokens) == width * len(rows):
             try:
-                return np.array(tokens, dtype=np.float64).reshape(len(rows), width), width
+                values = np.array(tokens, dtype=np.float64)
             except ValueError:
                 pass
+            else:
+                if np.isfinite(values).all():  # 'nan' and 'inf' parse; the slow pass names their line
+                    return values.reshape(len(rows), width), width
     for k, line in enumerate(rows):
         fields = [f.strip() for f in _split(line, sep)]
         while fields and fields[-1] == "":
@@ -186,7 +190,8 @@ def _parse_rows(
             )
         if len(fields) != width:
             raise ReaderError(f"line {line_nos[k]} has {len(fields)} fields but line {line_nos[0]} has {width}")
-    values = [f.strip().replace(",", ".") if decimal_comma else f.strip() for r in rows for f in _split(r, sep) if f.strip()]
+    values = [f.strip().replace(",", ".") if decimal_comma else f.strip()
+              for r in rows for f in _split(r, sep) if f.strip()]
     return np.array(values, dtype=np.float64).reshape(len(rows), width), width
 
 

@@ -51,6 +51,7 @@ for _i, _c in enumerate(b"jklmnopqr", start=1):
 for _i, _c in enumerate(b"STUVWXYZs", start=1):
     _code[_c], _dv[_c] = _DUP, _i + 1
 _CODE_T, _DV_T = bytes(_code), bytes(_dv)
+_SIGN_OF = np.where(np.arange(256) & _NEG, -1.0, 1.0)  # by code: the sign a token's first byte gives
 _POW10 = 10.0 ** np.arange(0, 40)
 # weight of a digit byte, indexed by power * 11 + (digit + 1)
 _WEIGHT = (np.arange(11)[None, :] - 1.0).clip(0) * _POW10[:, None]
@@ -59,6 +60,7 @@ MAX_POINTS = 2_000_000
 _COMMENT = re.compile(r"\$\$[^\n]*")
 _LEADING_WS = re.compile(r"\n[ \t,]+")
 _DOT_BYTE, _ZERO, _NINE = ord("."), ord("0"), ord("9")
+_AFTER = np.arange(1, 20)  # more digits than this after a dot fail the 17-digit check anyway
 
 _NON_E_ASDF = re.compile(r"[@A-DF-Ia-df-i%J-Rj-rS-Zs]")
 _AFFN_EXP = re.compile(r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?")
@@ -109,16 +111,25 @@ def decode_xydata(body: str, first_line: int) -> DecodedTable:
         An unknown character, a malformed number, a DUP or DIF token with nothing to act on,
         or a failed Y check, each naming the file line.
     """
-    if "$$" in body:
-        body = _COMMENT.sub("", body)
-    if not body.strip():
-        raise ReaderError(f"##XYDATA= (before line {first_line}) holds no data lines")
-    # leading blanks go (keeping line count), so a token right after a newline opens a line
     text = body.lstrip(" \t,")
-    if "\n " in text or "\n\t" in text or "\n," in text:
-        text = _LEADING_WS.sub("\n", text)
     if not text.endswith("\n"):
         text += "\n"
+    try:
+        return _decode(text, first_line, cleaned=False)
+    except _NeedsCleaning:
+        # comments out, and leading blanks off every line (keeping the line count), so that the
+        # token right after a newline is the line's abscissa
+        text = _LEADING_WS.sub("\n", _COMMENT.sub("", text)).lstrip(" \t,")
+        return _decode(text, first_line, cleaned=True)
+
+
+class _NeedsCleaning(Exception):
+    """The table holds comments or indented lines: clean the text and decode again."""
+
+
+def _decode(text: str, first_line: int, *, cleaned: bool) -> DecodedTable:
+    if not text.strip(" \t,\n"):
+        raise ReaderError(f"##XYDATA= (before line {first_line}) holds no data lines")
     if _uses_exponents(text):
         return _decode_affn_exponent(text, first_line)
     try:
@@ -142,6 +153,9 @@ def decode_xydata(body: str, first_line: int) -> DecodedTable:
 
     code = np.frombuffer(raw.translate(_CODE_T), dtype=np.uint8)
     nl = code == _NL
+    nl_pos = np.flatnonzero(nl)
+    if not cleaned and (b"$$" in raw or (code[nl_pos[:-1] + 1] == _SEP).any()):
+        raise _NeedsCleaning
     if code.max() == _BAD:
         pos = int(np.argmax(code == _BAD))
         ch = chr(raw[pos])
@@ -184,7 +198,7 @@ def decode_xydata(body: str, first_line: int) -> DecodedTable:
         decimals = np.zeros(n_tok, dtype=np.int64)
         decimals[dot_tok] = dot_decimals
     start_code = code[starts]
-    np.negative(value, out=value, where=start_code >= _NEG)
+    value *= _SIGN_OF[start_code]
     start_cls = start_code & 15
     if decimals is not None:
         value /= _POW10[decimals]
@@ -194,7 +208,7 @@ def decode_xydata(body: str, first_line: int) -> DecodedTable:
     first_of_line[0] = True
     first_of_line[1:] = nl[starts[1:] - 1]
     x_tok = np.flatnonzero(first_of_line)
-    line_nos = first_line + np.searchsorted(np.flatnonzero(nl), starts[x_tok])
+    line_nos = first_line + np.searchsorted(nl_pos, starts[x_tok])
     if (start_cls[x_tok] > _SIGN).any():
         i = int(np.argmax(start_cls[x_tok] > _SIGN))
         raise ReaderError(f"line {int(line_nos[i])} does not start with a plain abscissa (X value)")
@@ -219,7 +233,9 @@ def decode_xydata(body: str, first_line: int) -> DecodedTable:
         bad = first_y_tok[dup_i] | (counts_at < 1) | (counts_at != np.floor(counts_at)) | is_dup[prev]
         if bad.any():
             pos = int(starts[yi[dup_i[int(np.argmax(bad))]]])
-            raise ReaderError(f"a repeat count (DUP) with nothing to repeat or not a whole number on line {line_no(pos)}")
+            raise ReaderError(
+                f"a repeat count (DUP) with nothing to repeat or not a whole number on line {line_no(pos)}"
+            )
         counts = np.ones(yv.size, dtype=np.int64)
         counts[prev] = counts_at.astype(np.int64)
         counts[dup_i] = 0
@@ -281,16 +297,17 @@ def decode_xydata(body: str, first_line: int) -> DecodedTable:
 def _take_out_dots(raw: bytes, first_line: int) -> tuple[NDArray[np.int64], NDArray[np.int64]]:
     """For each decimal point followed by digits: its position once the dots are removed, and
     how many digits follow it. A dot with no digit on either side is an error."""
-    b = np.frombuffer(raw, dtype=np.uint8)
+    b = np.frombuffer(raw + b" " * _AFTER.size, dtype=np.uint8)
     dots = np.flatnonzero(b == _DOT_BYTE)
-    not_digit = np.flatnonzero((b < _ZERO) | (b > _NINE))
-    following = not_digit[np.searchsorted(not_digit, dots, side="right")] - dots - 1
+    window = b[dots[:, None] + _AFTER]  # the bytes after each dot (dots are few: look, don't scan)
+    digit = (window >= _ZERO) & (window <= _NINE)
+    following = np.where(digit.all(axis=1), _AFTER.size, np.argmin(digit, axis=1))
     before = b[np.maximum(dots - 1, 0)]
     bare = (following == 0) & ((before < _ZERO) | (before > _NINE) | (dots == 0))
-    if bare.any():
-        pos = int(dots[np.argmax(bare)])
+    if bare.any() or b".." in raw:
+        pos = int(dots[np.argmax(bare)]) if bare.any() else raw.find(b"..")
         line = first_line + raw.count(b"\n", 0, pos)
-        raise ReaderError(f"a decimal point without digits on line {line}")
+        raise ReaderError(f"a decimal point without digits, or two in a row, on line {line}")
     new_pos = dots - np.arange(dots.size)
     has = following > 0
     return new_pos[has], following[has]

@@ -188,7 +188,9 @@ def _agree(written: WrittenNumber, actual: float, extra: float = 0.0) -> bool:
     return abs(written.value - actual) <= tol
 
 
-def _xydata(block: Block, body: str, body_line: int, xf: WrittenNumber) -> tuple[NDArray[np.float64], NDArray[np.float64], str]:
+def _xydata(
+    block: Block, body: str, body_line: int, xf: WrittenNumber
+) -> tuple[NDArray[np.float64], NDArray[np.float64], str]:
     table = decode_xydata(body, body_line)
     n = table.y.size
     npoints = block.number("NPOINTS")
@@ -300,7 +302,9 @@ def _y_kind(block: Block, y: NDArray[np.float64], opts: _Options) -> tuple[YKind
     code = y_kind_from_label(written) if written else None
     if code is None:
         what = f"##YUNITS={written}" if written else "no ##YUNITS="
-        raise ReaderError(f"{what}: cannot tell what the values are; give the value kind (e.g. absorbance, transmittance)")
+        raise ReaderError(
+            f"{what}: cannot tell what the values are; give the value kind (e.g. absorbance, transmittance)"
+        )
     if code == "A":
         return YKind.absorbance, None
     if code in ("T?", "%T"):
@@ -314,7 +318,9 @@ def _y_kind(block: Block, y: NDArray[np.float64], opts: _Options) -> tuple[YKind
         return YKind.reflectance, None
     if code == "KM":
         return YKind.kubelka_munk, None
-    return YKind.absorbance, f"##YUNITS={written} (log 1/R, apparent absorbance of a reflectance spectrum): read as absorbance"
+    return YKind.absorbance, (
+        f"##YUNITS={written} (log 1/R, apparent absorbance of a reflectance spectrum): read as absorbance"
+    )
 
 
 def _peak_table(block: Block, form_text: str, lines: list[tuple[int, str]], xf: WrittenNumber, yf: WrittenNumber,
