@@ -8,6 +8,7 @@ cached by content digest (they are immutable once approved).
 from __future__ import annotations
 
 import json
+import threading
 from collections import OrderedDict
 from collections.abc import Callable
 from typing import Any
@@ -18,6 +19,7 @@ from service.release.digests import sha256_hex
 _CACHE_SIZE = 64
 _spectra: "OrderedDict[str, Any]" = OrderedDict()
 _specs: "OrderedDict[str, Any]" = OrderedDict()
+_lock = threading.Lock()  # the caches are shared by the server's worker threads
 
 
 def _missing(what: str, exc: ImportError) -> ServiceUnavailable:
@@ -36,13 +38,15 @@ def read_spectrum(data: bytes, *, file_name: str = "") -> Any:
 def read_cached(data: bytes, *, file_name: str = "") -> Any:
     """read_spectrum for stored, immutable files (references), cached by SHA-256."""
     key = sha256_hex(data)
-    if key in _spectra:
-        _spectra.move_to_end(key)
-        return _spectra[key]
+    with _lock:
+        hit = _spectra.get(key)
+    if hit is not None:
+        return hit
     spectrum = read_spectrum(data, file_name=file_name)
-    _spectra[key] = spectrum
-    if len(_spectra) > _CACHE_SIZE:
-        _spectra.popitem(last=False)
+    with _lock:
+        _spectra[key] = spectrum
+        while len(_spectra) > _CACHE_SIZE:
+            _spectra.popitem(last=False)
     return spectrum
 
 
@@ -53,12 +57,15 @@ def parse_specification(document: dict[str, Any]) -> Any:
     except ImportError as exc:  # pragma: no cover
         raise _missing("the evaluator", exc) from None
     key = sha256_hex(json.dumps(document, sort_keys=True, default=str))
-    if key in _specs:
-        return _specs[key]
+    with _lock:
+        hit = _specs.get(key)
+    if hit is not None:
+        return hit
     spec = _parse(document)
-    _specs[key] = spec
-    if len(_specs) > _CACHE_SIZE:
-        _specs.popitem(last=False)
+    with _lock:
+        _specs[key] = spec
+        while len(_specs) > _CACHE_SIZE:
+            _specs.popitem(last=False)
     return spec
 
 
@@ -77,9 +84,10 @@ _libraries: "OrderedDict[tuple[Any, ...], Any]" = OrderedDict()
 
 def reference_spectrum(sha256: str, load: Callable[[], tuple[bytes, str]]) -> Any:
     """A stored reference read once and cached by its SHA-256; ``load`` gives (bytes, file name) on a miss."""
-    if sha256 in _spectra:
-        _spectra.move_to_end(sha256)
-        return _spectra[sha256]
+    with _lock:
+        hit = _spectra.get(sha256)
+    if hit is not None:
+        return hit
     data, name = load()
     return read_cached(data, file_name=name)
 
@@ -93,18 +101,20 @@ def library_for(entries: list[tuple[int, str, str]], load: Callable[[int], tuple
     if not entries:
         return None
     key = tuple(entries)
-    if key in _libraries:
-        _libraries.move_to_end(key)
-        return _libraries[key]
+    with _lock:
+        hit = _libraries.get(key)
+    if hit is not None:
+        return hit
     try:
         from service.evaluation import ReferenceLibrary
     except ImportError as exc:  # pragma: no cover
         raise _missing("the reference library", exc) from None
     lib = ReferenceLibrary.build([(code, reference_spectrum(sha, lambda rid=rid: load(rid)))
                                   for rid, code, sha in entries])
-    _libraries[key] = lib
-    if len(_libraries) > 8:
-        _libraries.popitem(last=False)
+    with _lock:
+        _libraries[key] = lib
+        while len(_libraries) > 8:
+            _libraries.popitem(last=False)
     return lib
 
 

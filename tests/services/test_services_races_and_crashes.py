@@ -70,7 +70,7 @@ def _env() -> dict[str, str]:
 
 
 @pytest.mark.slow
-def test_two_processes_racing_to_decide_a_lot_make_exactly_one_decision(lab, db_url: str) -> None:  # type: ignore[no-untyped-def]
+def test_two_processes_racing_to_decide_a_lot_make_exactly_one_decision(lab) -> None:  # type: ignore[no-untyped-def]
     lot = receive(lab.engine, lab.tech, material_code="TOL-01", supplier_name="Northwind Solvents", containers=1)
     uc.record_measurement(lab.engine, lab.tech, lot_code=lot.code, container=1, instrument_code="FTIR-1",
                           data=sp.real_csv("toluene", noise=0.002), file_name="t.csv")
@@ -79,7 +79,7 @@ def test_two_processes_racing_to_decide_a_lot_make_exactly_one_decision(lab, db_
 
     make_user(lab.engine, "quentin.qa", roles=("quality",), printed_name="Quentin QA")
     start_at = time.time() + 2.5  # both start at the same instant, after their imports
-    procs = [subprocess.Popen([sys.executable, "-c", RACER, db_url, lot.code, who, str(start_at)],
+    procs = [subprocess.Popen([sys.executable, "-c", RACER, lab.url, lot.code, who, str(start_at)],
                               stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, env=_env(), cwd=ROOT)
              for who in ("quinn.qa", "quentin.qa")]
     outs = [p.communicate(timeout=120) for p in procs]
@@ -96,7 +96,7 @@ def test_two_processes_racing_to_decide_a_lot_make_exactly_one_decision(lab, db_
 
 
 @pytest.mark.slow
-def test_writer_killed_mid_upload_leaves_no_partial_record(lab, db_url: str, tmp_path: Path) -> None:  # type: ignore[no-untyped-def]
+def test_writer_killed_mid_upload_leaves_no_partial_record(lab, tmp_path: Path) -> None:  # type: ignore[no-untyped-def]
     lot = receive(lab.engine, lab.tech, material_code="TOL-01", supplier_name="Northwind Solvents", containers=1)
     upload = tmp_path / "upload.csv"
     upload.write_bytes(sp.real_csv("toluene", noise=0.002, seed=9))
@@ -108,7 +108,7 @@ def test_writer_killed_mid_upload_leaves_no_partial_record(lab, db_url: str, tmp
                     for t in ("measurements", "stored_files", "evaluations", "audit_events", "lot_containers")}
 
     before = counts()
-    proc = subprocess.Popen([sys.executable, "-c", KILLED_WRITER, db_url, lot.code, str(marker), str(upload)],
+    proc = subprocess.Popen([sys.executable, "-c", KILLED_WRITER, lab.url, lot.code, str(marker), str(upload)],
                             stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, env=_env(), cwd=ROOT)
     try:
         deadline = time.monotonic() + 90
