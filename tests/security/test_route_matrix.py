@@ -14,7 +14,7 @@ from collections.abc import Iterator
 
 import pytest
 
-from service.release.permissions import Action, Role, Scope, client_may, person_may
+from service.release.permissions import SIGNING_ACTIONS, Action, Role, Scope, client_may, person_may
 from service.services.security_clients import create_token
 from service.web.auth import SESSION_COOKIE
 from service.web.guard import DENIED_HEADER, RouteInfo, route_table, undeclared_routes
@@ -108,6 +108,11 @@ def test_scope_route_matrix_on_the_api(site: Site) -> None:
     tokens = {scope: create_token(site.engine, client=f"client-{scope.value}", scopes=scope.value) for scope in Scope}
     mismatches = []
     for method, route, actions in _routes(site):
+        if actions & SIGNING_ACTIONS:  # a token never signs, on any route
+            for token in tokens.values():
+                r = site.client().request(method, _path(route), headers={"Authorization": f"Bearer {token}"})
+                if not _refused_by_guard(r):
+                    mismatches.append(f"a token reached the signing route {method} {route.path}: {r.status_code}")
         if not route.path.startswith("/api/"):
             continue
         for scope, token in tokens.items():

@@ -201,9 +201,12 @@ def test_a_session_is_dead_after_the_idle_timeout(site: Site) -> None:
 def test_absolute_timeout_ends_a_busy_session(site: Site) -> None:
     make_person(site.engine, "tess.tech", "technician")
     c = site.sign_in("tess.tech")
-    for _ in range(12 * 6):
-        site.clock.advance(minutes=10)
+    for _ in range(51):  # busy all day: a request every 14 minutes keeps the idle timeout away
+        site.clock.advance(minutes=14)
+        assert c.get("/account/password").status_code == 200
+    site.clock.advance(minutes=14)  # 11 h 54 min + 14 min: past the 12 h absolute limit
     assert c.get("/account/password").status_code == 303
+    assert [e["new"]["how"] for e in _events(site, "user.signed-out")] == ["expired"]
 
 
 def test_each_sign_in_makes_a_new_session_id(site: Site) -> None:
@@ -328,6 +331,15 @@ def test_an_oversized_body_is_refused_while_streaming(site: Site) -> None:
                             headers={"content-type": "application/x-www-form-urlencoded"})
     assert r.status_code == 413
 
+    def chunks():  # no Content-Length: the limit is enforced on the bytes as they stream in
+        for _ in range(limit // 65536 + 2):
+            yield b"y" * 65536
+
+    r = small.client().post("/login", content=chunks(), headers={"content-type": "application/x-www-form-urlencoded"})
+    assert r.status_code == 413 and "larger than the limit" in r.text
+    assert small.client().post("/login", content=b"username=a&password=b",  # control: small bodies pass
+                               headers={"content-type": "application/x-www-form-urlencoded"}).status_code == 401
+
 
 def test_migrated_security_schema_matches_the_store_tables(db_url: str) -> None:
     from alembic.autogenerate import compare_metadata
@@ -406,3 +418,21 @@ def test_next_after_sign_in_is_only_a_local_path(site: Site) -> None:
                              ("//evil.example", "/"), ("/\\evil", "/")]:
         r = site.client().post("/login", data={"username": "tess.tech", "password": PASSWORD, "next": target})
         assert r.headers["location"] == expected
+
+
+def test_per_address_throttling_stops_password_spraying(site: Site) -> None:
+    from service.security.throttle import ThrottlePolicy
+
+    policy = ThrottlePolicy(address_failures=3)
+    for name in ("ann.a", "bob.b", "cat.c", "dan.d"):
+        make_person(site.engine, name, "technician")
+    for name in ("ann.a", "bob.b", "cat.c"):  # one wrong password each, from one address
+        with pytest.raises(CredentialsRefused, match="not right"):
+            sign_in(site.engine, username=name, password="summer sunshine 99", address="10.9.9.9", now=T0, policy=policy)
+    with pytest.raises(CredentialsRefused, match="network address") as err:
+        sign_in(site.engine, username="dan.d", password=PASSWORD, address="10.9.9.9", now=T0, policy=policy)
+    assert err.value.retry_after == 15 * 60
+    # Another address is unaffected, and the window moves on.
+    sign_in(site.engine, username="dan.d", password=PASSWORD, address="10.1.1.1", now=T0, policy=policy)
+    sign_in(site.engine, username="dan.d", password=PASSWORD, address="10.9.9.9", now=T0 + timedelta(minutes=16),
+            policy=policy)
