@@ -36,6 +36,7 @@ class Claimed:
 class Replay:
     status_code: int
     body: Any
+    headers: dict[str, str] = field(default_factory=dict)
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -90,7 +91,8 @@ def claim(
                 if row["state"] == "done":
                     if row["status_code"] is None:
                         return _answer_lost(conn, row["audit_seq"])
-                    return Replay(status_code=row["status_code"], body=json.loads(row["response_json"]))
+                    stored = json.loads(row["response_json"])
+                    return Replay(status_code=row["status_code"], body=stored["body"], headers=stored["headers"])
                 since = _aware(row["created_at"])
                 if now - since < stale_after:
                     return InFlight(since=since)
@@ -109,13 +111,14 @@ def _answer_lost(conn: Connection, seq: int | None) -> AnswerLost:
     return AnswerLost(record_type=row[0] if row else None, record_id=str(row[1]) if row else None)
 
 
-def complete(engine: Engine, *, claim_id: int, status_code: int, body: Any, now: datetime) -> None:
-    """Store the answer for a claim (after the record's commit, or for answers that wrote nothing)."""
+def complete(engine: Engine, *, claim_id: int, status_code: int, body: Any, now: datetime,
+             headers: dict[str, str] | None = None) -> None:
+    """Store the answer (status, body, headers such as Location) for a claim, after the record's commit."""
+    stored = json.dumps({"body": body, "headers": headers or {}}, sort_keys=True)
     with engine.begin() as conn:
         conn.execute(
             sa.update(t).where(t.c.id == claim_id).values(
-                state="done", status_code=status_code, response_json=json.dumps(body, sort_keys=True),
-                completed_at=now,
+                state="done", status_code=status_code, response_json=stored, completed_at=now,
             )
         )
 

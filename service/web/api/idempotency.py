@@ -98,7 +98,8 @@ class Write:
             path=self.path, request_hash=self.request_hash, now=datetime.now(UTC), stale_after=STALE_AFTER,
         )
         if isinstance(claimed, store.Replay):
-            return Answer(status_code=claimed.status_code, body=claimed.body).response(replayed=True)
+            return Answer(status_code=claimed.status_code, body=claimed.body,
+                          headers=claimed.headers).response(replayed=True)
         if isinstance(claimed, store.InFlight):
             raise IdempotencyKeyInFlight(
                 f"a request with Idempotency-Key '{self.key}' has been running since "
@@ -125,7 +126,7 @@ class Write:
             raise
         if answer.recorded or binding.bound:
             store.complete(self.engine, claim_id=claim_id, status_code=answer.status_code, body=answer.body,
-                           now=datetime.now(UTC))
+                           headers=answer.headers, now=datetime.now(UTC))
         else:
             store.release(self.engine, claim_id=claim_id)
         return answer.response()

@@ -25,7 +25,7 @@ def test_a_retry_replays_the_first_answer_and_writes_nothing(bare_lab: Lab) -> N
     assert first.status_code == 201 and "Idempotent-Replayed" not in first.headers
     again = _post(bare_lab, lot_body(), "k-1")
     assert again.status_code == 201 and again.headers["Idempotent-Replayed"] == "true"
-    assert again.json() == first.json()
+    assert again.json() == first.json() and again.headers["location"] == first.headers["location"]
     assert _lots(bare_lab) == before + 1
     assert _post(bare_lab, lot_body(), None).status_code == 201  # no key: a second lot
     assert _lots(bare_lab) == before + 2
