@@ -49,6 +49,9 @@ def create_app(settings: Settings | None = None, *, check_migrations: bool = Tru
     install_error_handlers(app)
     install_security(app)
     install_api(app)
+    from service.web.pages import install_pages
+
+    install_pages(app)
 
     @app.get("/healthz", tags=["operations"], dependencies=[public()])
     def healthz() -> dict[str, str]:
