@@ -31,7 +31,7 @@ def prefixed(prefix: str) -> Iterator[None]:
 
 
 @router.post(
-    "/evaluate", response_model=DryRunOut, responses=problems(404, 413, 415, 422),
+    "/evaluate", response_model=DryRunOut, responses=problems(400, 404, 413, 415, 422),
     summary="Evaluate a spectrum without recording anything (dry run)",
     description="Multipart: `file` (the sample spectrum) and either `spec` (the specification as JSON text) "
     "with `reference` (a spectrum file), or `material` (a code: its approved specification and reference "
@@ -73,7 +73,7 @@ def dry_run(
 
 
 @router.post(
-    "/library/search", response_model=LibrarySearchOut, responses=problems(413, 415, 422),
+    "/library/search", response_model=LibrarySearchOut, responses=problems(400, 413, 415, 422),
     summary="Rank the approved references against a spectrum",
     description="Multipart `file`. Pearson correlation over the spectrum's mid-IR range against every approved "
     "reference; the best `top` matches. Records nothing. A match is a hint for an investigation, not an identity.",
