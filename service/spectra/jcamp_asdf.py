@@ -60,6 +60,7 @@ MAX_POINTS = 2_000_000
 _COMMENT = re.compile(r"\$\$[^\n]*")
 _LEADING_WS = re.compile(r"\n[ \t,]+")
 _DOT_BYTE, _ZERO, _NINE = ord("."), ord("0"), ord("9")
+_AFTER = np.arange(1, 20)  # more digits than this after a dot fail the 17-digit check anyway
 
 _NON_E_ASDF = re.compile(r"[@A-DF-Ia-df-i%J-Rj-rS-Zs]")
 _AFFN_EXP = re.compile(r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?")
@@ -296,16 +297,17 @@ def _decode(text: str, first_line: int, *, cleaned: bool) -> DecodedTable:
 def _take_out_dots(raw: bytes, first_line: int) -> tuple[NDArray[np.int64], NDArray[np.int64]]:
     """For each decimal point followed by digits: its position once the dots are removed, and
     how many digits follow it. A dot with no digit on either side is an error."""
-    b = np.frombuffer(raw, dtype=np.uint8)
+    b = np.frombuffer(raw + b" " * _AFTER.size, dtype=np.uint8)
     dots = np.flatnonzero(b == _DOT_BYTE)
-    not_digit = np.flatnonzero((b < _ZERO) | (b > _NINE))
-    following = not_digit[np.searchsorted(not_digit, dots, side="right")] - dots - 1
+    window = b[dots[:, None] + _AFTER]  # the bytes after each dot (dots are few: look, don't scan)
+    digit = (window >= _ZERO) & (window <= _NINE)
+    following = np.where(digit.all(axis=1), _AFTER.size, np.argmin(digit, axis=1))
     before = b[np.maximum(dots - 1, 0)]
     bare = (following == 0) & ((before < _ZERO) | (before > _NINE) | (dots == 0))
-    if bare.any():
-        pos = int(dots[np.argmax(bare)])
+    if bare.any() or b".." in raw:
+        pos = int(dots[np.argmax(bare)]) if bare.any() else raw.find(b"..")
         line = first_line + raw.count(b"\n", 0, pos)
-        raise ReaderError(f"a decimal point without digits on line {line}")
+        raise ReaderError(f"a decimal point without digits, or two in a row, on line {line}")
     new_pos = dots - np.arange(dots.size)
     has = following > 0
     return new_pos[has], following[has]

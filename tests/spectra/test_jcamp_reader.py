@@ -273,6 +273,8 @@ def test_peak_table_is_read_as_peaks_not_as_a_spectrum() -> None:
         ("1000 100 ? 102", r"'\?' marks a missing value"),
         ("1000 100 1x2", r"character 'x' in the data on line 10"),
         ("1000 100 1.2.3", r"two decimal points"),
+        ("1000 100 1..2", r"two in a row"),
+        ("1000 100 +J5", r"a sign without digits"),
     ],
 )
 def test_malformed_data_lines_are_errors_naming_the_problem(line: str, pattern: str) -> None:
