@@ -14,6 +14,7 @@ def register(subparsers: argparse._SubParsersAction) -> None:  # type: ignore[ty
                        description="Recompute every audit event's hash and link, every stored file's SHA-256 "
                        "and every signature's record digest. Exits 1 naming the first broken link.")
     v.add_argument("--all", action="store_true", help="list every problem, not only the first")
+    v.add_argument("--json", action="store_true", help="print the report as one JSON object")
     v.set_defaults(handler=_verify)
     e = sub.add_parser("export", help="write one lot's record as JSON or CSV",
                        description="Write a lot's record (plan, containers, measurements, signatures, audit "
@@ -40,6 +41,11 @@ def _verify(args: argparse.Namespace) -> int:
     from service.services.audit_trail import verify_audit
 
     report = verify_audit(_engine())
+    if args.json:
+        import json
+
+        print(json.dumps(report.as_dict(), indent=2))
+        return 0 if report.ok else 1
     if report.ok:
         print(f"audit trail verified: {report.events} events, {report.files} stored files, "
               f"{report.signatures} signatures; no broken link")

@@ -16,7 +16,7 @@ from sqlalchemy.engine import Engine
 
 from service.errors import NotFound
 from service.store import repositories as repo
-from service.store.audit import AuditEvent, check_chain, events_for, events_for_records
+from service.store.audit import AuditEvent, audited_lot_states, check_chain, events_for, events_for_records
 from service.store.signed_content import digest_of
 from service.store.unit_of_work import UnitOfWork
 from service.services import _shared as sh
@@ -42,7 +42,8 @@ class AuditReport:
 
 
 def verify_audit(engine: Engine) -> AuditReport:
-    """Recompute the chain, file hashes and signature digests; ``ok`` only if all hold."""
+    """Recompute the chain, file hashes and signature digests, and compare each lot's state with the
+    state its audit events last recorded; ``ok`` only if all hold."""
     problems: list[str] = []
     with UnitOfWork(engine, write=False) as uow:
         s = uow.session
@@ -54,6 +55,11 @@ def verify_audit(engine: Engine) -> AuditReport:
             if stored_sha != actual_sha or stored_size != actual_size:
                 problems.append(f"stored file {fid}: its bytes no longer match the SHA-256 recorded at upload "
                                 f"({stored_sha[:12]}... recorded, {actual_sha[:12]}... now)")
+        audited = audited_lot_states(s)
+        for lot_id, (code, state) in sorted(repo.lot_states(s).items()):
+            if audited.get(str(lot_id)) != state:
+                problems.append(f"lot {code}: its state '{state}' is not the one the audit trail last recorded "
+                                f"('{audited.get(str(lot_id), 'none')}'); it was changed outside Bandgate")
         sigs = repo.iter_signatures(s)
         for sig in sigs:
             try:
@@ -112,7 +118,7 @@ def export_lot(engine: Engine, lot_code: str, *, fmt: str = "json") -> str:
     out = io.StringIO()
     w = csv.writer(out)
     w.writerow(["section", "when_utc", "who", "what", "detail"])
-    w.writerow(["lot", lot["created_at"], lot["created_by"], f"lot {lot['code']}",
+    w.writerow(["lot", lot["created_at"], lot["received_by"] or lot["created_by"], f"lot {lot['code']}",
                 f"material {lot['material']} ({lot['material_name']}); supplier {lot['supplier']} lot "
                 f"{lot['supplier_lot']}; {lot['containers_received']} containers; state: {lot['state_label']}"])
     w.writerow(["plan", lot["created_at"], "", lot["plan"]["kind"], lot["plan"]["reason"]

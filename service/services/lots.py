@@ -156,6 +156,7 @@ def lot_view(session: Session, lot: Lot, *, with_documents: bool = True) -> LotV
     sup = repo.supplier_by_id(session, lot.supplier_id)
     ev = evidence(session, lot, with_documents=with_documents)
     decision = repo.decision_for(session, lot.id)  # type: ignore[arg-type]
+    receiver = repo.user_by_id(session, lot.created_by)
     return LotView(
         id=lot.id or 0, code=lot.code, material=m.code if m else "?", material_name=m.name if m else "?",
         supplier=sup.name if sup else "?", supplier_lot=lot.supplier_lot, containers_received=lot.containers_received,
@@ -168,6 +169,7 @@ def lot_view(session: Session, lot: Lot, *, with_documents: bool = True) -> LotV
         decision=None if decision is None else {
             "outcome": decision.outcome, "stage": decision.stage, "signature_id": decision.signature_id,
             "decided_at": utc(decision.decided_at), "decided_by": decision.decided_by},
+        received_by=receiver.printed_name if receiver else "",
     )
 
 

@@ -251,7 +251,7 @@ def record_measurement(engine: Engine, actor: Actor, *, lot_code: str, container
 
 def _retest_of(session: Session, lot: Lot, cont: LotContainer) -> int | None:
     """The invalidated measurement of this container that a new upload retests, if any."""
-    ms = [m for m in repo.measurements_for_lot(session, lot.id) if m.container_id == cont.id]  # type: ignore[arg-type]
+    ms = repo.measurements_for_container(session, cont.id)  # type: ignore[arg-type]
     invs = repo.invalidations_for(session, [m.id for m in ms if m.id is not None])
     retested = {m.retest_of_id for m in ms if m.retest_of_id is not None and m.status == "accepted"}
     open_ = [mid for mid in invs if mid not in retested]

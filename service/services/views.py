@@ -209,3 +209,4 @@ class LotView(_View):
     measurements: tuple[MeasurementView, ...] = ()
     signatures: tuple[SignatureView, ...] = ()
     decision: dict[str, Any] | None = None
+    received_by: str = ""  # printed name of the person who received the lot

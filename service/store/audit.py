@@ -8,6 +8,7 @@ inside a writing UnitOfWork, which holds the write lock.
 
 from __future__ import annotations
 
+import json
 from collections.abc import Iterator
 from dataclasses import dataclass
 from datetime import datetime, timezone
@@ -156,3 +157,15 @@ def count_events(session: Session) -> int:
     from sqlalchemy import func
 
     return int(session.exec(select(func.count()).select_from(AuditEvent)).one())
+
+
+def audited_lot_states(session: Session) -> dict[str, str]:
+    """The state each lot should be in according to its audit events (record id -> last audited state)."""
+    out: dict[str, str] = {}
+    q = select(AuditEvent.record_id, AuditEvent.new_values).where(AuditEvent.record_type == "lot") \
+        .order_by(col(AuditEvent.seq))
+    for record_id, new_values in session.exec(q).all():
+        state = json.loads(new_values).get("state")
+        if state:
+            out[record_id] = state
+    return out

@@ -274,3 +274,13 @@ def lot_progress(session: Session, lot_id: int) -> tuple[int, int, int]:
 def operators_of_lot(session: Session, lot_id: int) -> set[int]:
     rows = session.exec(select(Measurement.operator_id).where(Measurement.lot_id == lot_id).distinct()).all()
     return {int(r) for r in rows}
+
+
+def lot_states(session: Session) -> dict[int, tuple[str, str]]:
+    """lot id -> (code, state) for every lot."""
+    return {int(i): (c, st) for i, c, st in session.exec(select(Lot.id, Lot.code, Lot.state)).all()}
+
+
+def measurements_for_container(session: Session, container_id: int) -> list[Measurement]:
+    return list(session.exec(select(Measurement).where(Measurement.container_id == container_id)
+                             .order_by(col(Measurement.id))).all())

@@ -116,6 +116,7 @@ def test_failed_lot_rejected_at_review(lab) -> None:  # type: ignore[no-untyped-
                          env=dict(os.environ, BANDGATE_DATABASE_URL=lab.url, PYTHONPATH=str(root)))
     assert out.returncode == 0, out.stderr
     assert out.stdout.splitlines()[0] == "section,when_utc,who,what,detail" and lot.code in out.stdout
+    assert "Tina Tech" in out.stdout.splitlines()[1]  # who received the lot, by printed name
     missing = subprocess.run([sys.executable, "-m", "service", "audit", "export", "--lot", "IN-1900-00001"],
                              capture_output=True, text=True, cwd=root, timeout=120,
                              env=dict(os.environ, BANDGATE_DATABASE_URL=lab.url, PYTHONPATH=str(root)))
@@ -226,3 +227,15 @@ def test_changed_file_or_evaluation_after_signing_is_caught(lab) -> None:  # typ
         conn.execute(text("UPDATE stored_files SET content = :c WHERE sha256 = :s"), {"c": b"swapped", "s": m.sha256})
     problems = uc.verify_audit(lab.engine).problems
     assert any("no longer match the SHA-256" in p for p in problems)
+
+
+def test_a_lot_state_changed_outside_bandgate_is_caught(lab) -> None:  # type: ignore[no-untyped-def]
+    from sqlalchemy import text
+
+    lot = _lot(lab, containers=1)
+    _measure(lab, lot, 1, "heptanes")
+    assert uc.get_lot(lab.engine, lot.code).state == "awaiting_review" and uc.verify_audit(lab.engine).ok
+    with lab.engine.begin() as conn:  # 'lots' is not append-only, but its state is audited
+        conn.execute(text("UPDATE lots SET state = 'released' WHERE code = :c"), {"c": lot.code})
+    report = uc.verify_audit(lab.engine)
+    assert not report.ok and f"lot {lot.code}: its state 'released'" in report.first_problem

@@ -132,3 +132,42 @@ def test_writer_killed_mid_upload_leaves_no_partial_record(lab, tmp_path: Path) 
     done = uc.record_measurement(lab.engine, lab.tech, lot_code=lot.code, container=1, instrument_code="FTIR-1",
                                  data=upload.read_bytes(), file_name="again.csv")
     assert done.verdict == "pass" and uc.verify_audit(lab.engine).ok
+
+
+UPLOADER = r"""
+import sys, time
+from pathlib import Path
+from service import services as uc
+from service.store.engine import make_engine
+url, lot_code, container, data_path, start_at = sys.argv[1], sys.argv[2], int(sys.argv[3]), sys.argv[4], float(sys.argv[5])
+engine = make_engine(url)
+actor = uc.get_actor(engine, "tina.tech")
+data = Path(data_path).read_bytes()
+while time.time() < start_at:
+    time.sleep(0.001)
+view = uc.record_measurement(engine, actor, lot_code=lot_code, container=container, instrument_code="FTIR-1",
+                             data=data, file_name=f"c{container}.csv")
+print(view.verdict)
+"""
+
+
+@pytest.mark.slow
+def test_concurrent_uploads_keep_one_unforked_chain(lab, tmp_path: Path) -> None:  # type: ignore[no-untyped-def]
+    lot = receive(lab.engine, lab.tech, material_code="TOL-01", supplier_name="Northwind Solvents", containers=3)
+    start_at = time.time() + 2.5
+    procs = []
+    for number in (1, 2, 3):
+        upload = tmp_path / f"c{number}.csv"
+        upload.write_bytes(sp.real_csv("toluene", noise=0.002, seed=number))
+        procs.append(subprocess.Popen(
+            [sys.executable, "-c", UPLOADER, lab.url, lot.code, str(number), str(upload), str(start_at)],
+            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True, env=_env(), cwd=ROOT))
+    outs = [p.communicate(timeout=180) for p in procs]
+    assert [p.returncode for p in procs] == [0, 0, 0], [o[1][-500:] for o in outs]
+    assert [o[0].strip() for o in outs] == ["pass", "pass", "pass"]
+    final = uc.get_lot(lab.engine, lot.code)
+    assert final.state == "awaiting_disposition" and all(c.outcome == "passed" for c in final.containers)
+    with lab.engine.connect() as conn:
+        seqs = list(conn.execute(text("SELECT seq FROM audit_events ORDER BY seq")).scalars())
+    assert seqs == list(range(1, len(seqs) + 1))
+    assert uc.verify_audit(lab.engine).ok

@@ -111,6 +111,8 @@ def test_edit_with_triggers_dropped_is_caught_by_audit_verify_naming_the_event(d
     bad = _cli(db_url, "audit", "verify")
     assert bad.returncode == 1
     assert f"audit event #{target.seq}" in bad.stderr and "material.created" in bad.stderr
+    as_json = _cli(db_url, "audit", "verify", "--json")
+    assert as_json.returncode == 1 and f"#{target.seq}" in __import__("json").loads(as_json.stdout)["first_problem"]
     report = uc.verify_audit(engine)
     assert not report.ok and f"#{target.seq}" in (report.first_problem or "")
     engine.dispose()
