@@ -73,3 +73,28 @@ def test_common_passwords_are_refused() -> None:
 def test_username_as_password_is_refused() -> None:
     with pytest.raises(PasswordRefused, match="username"):
         check_password_policy("maria.lindqvist", username="maria.lindqvist")
+
+
+def test_length_rule_holds_for_any_text() -> None:
+    """Property (NIST SP 800-63B §5.1.1.2): the only rules are length, the blocklist and the user's own
+    names; any other text of 12-128 characters is accepted, whatever it is made of."""
+    import unicodedata
+
+    from hypothesis import given, settings, strategies as st
+
+    @settings(max_examples=300, deadline=None)
+    @given(st.text(min_size=0, max_size=140))
+    def check(pw: str) -> None:
+        n = len(unicodedata.normalize("NFKC", pw))
+        try:
+            check_password_policy(pw)
+            accepted = True
+        except PasswordRefused as exc:
+            accepted = False
+            assert exc.fields and exc.fields[0].path == "password"
+        if n < MIN_LENGTH or n > MAX_LENGTH:
+            assert not accepted
+        elif not is_common(pw) and unicodedata.normalize("NFKC", pw).strip():
+            assert accepted
+
+    check()
