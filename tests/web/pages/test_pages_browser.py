@@ -1,6 +1,6 @@
 """Browser walk with a real headless Chromium against a real server and a real SQLite database.
 
-Technician signs in → receives a lot → uploads a passing and a failing spectrum → sees the verdicts
+With JavaScript switched off in the browser, the technician signs in → receives a lot → uploads a passing and a failing spectrum → sees the verdicts
 and the plot; supervisor signs in → reviews the failed lot → signs the rejection; the printed lot
 record carries the signature manifestation (21 CFR 11.50: printed name, date and time, meaning).
 Screenshots of every step go to ``test-output/browser/`` (and, with BANDGATE_SCREENSHOTS=docs, the
@@ -84,7 +84,10 @@ def test_technician_to_supervisor_walk_with_printed_record(tmp_path: Path) -> No
     engine.dispose()
 
     with live_server(db_url, secret=SECRET, log=OUTPUT / "server.log") as base, chromium(executable) as browser:
-        page = browser.new_page(viewport={"width": 1180, "height": 860})  # type: ignore[attr-defined]
+        # JavaScript off: every essential action of the walk must work with plain forms and links.
+        context = browser.new_context(viewport={"width": 1180, "height": 860},  # type: ignore[attr-defined]
+                                      java_script_enabled=False)
+        page = context.new_page()
         page.set_default_timeout(30_000)
 
         # --- technician -------------------------------------------------------------------
