@@ -63,13 +63,33 @@ def _numeric_fields(fields: list[str], decimal_comma: bool) -> bool:
     return all(_is_number(f) for f in fs)
 
 
+def _leading_lines(text: str, n: int) -> list[str]:
+    """The first ``n`` lines that are neither blank nor ``#`` comments, without splitting the whole text."""
+    out: list[str] = []
+    start = 0
+    while len(out) < n:
+        end = text.find("\n", start)
+        line = text[start:] if end < 0 else text[start:end]
+        if line.strip() and not line.lstrip().startswith("#"):
+            out.append(line)
+        if end < 0:
+            break
+        start = end + 1
+    return out
+
+
 def sniff(text: str) -> tuple[str | None, str, bool] | None:
-    """(separator, its name, decimal comma) if the text looks like columns of numbers, else None."""
-    lines = [ln for ln in text.split("\n") if ln.strip() and not ln.lstrip().startswith("#")][:200]
+    """(separator, its name, decimal comma) if the text looks like columns of numbers, else None.
+
+    Judged on the first 200 data-like lines (blank and ``#`` lines skipped), past any header block.
+    """
+    lines = _leading_lines(text, 200)
     if not lines:
         return None
     tail = lines[len(lines) // 3:] or lines  # past any header block
     for sep, name in _SEPARATORS:
+        if sep is not None and not any(sep in ln for ln in tail):
+            continue  # every row would be one field: cannot be columns
         for decimal_comma in ((False, True) if sep != "," else (False,)):
             rows = [_split(ln, sep) for ln in tail]
             good = [r for r in rows if _numeric_fields(r, decimal_comma)]
@@ -107,15 +127,27 @@ def read_delimited(
     ReaderError
         Anything that keeps the text from being one spectrum, naming the line.
     """
-    found = sniff(text)
+    return read_sniffed(text, sniff(text), x_unit=x_unit, y_kind=y_kind, column=column)
+
+
+def read_sniffed(
+    text: str,
+    found: tuple[str | None, str, bool] | None,
+    *,
+    x_unit: str | XUnit | None = None,
+    y_kind: YKind | str | None = None,
+    column: str | int | None = None,
+) -> Spectrum:
+    """:func:`read_delimited` for a caller that has already run :func:`sniff` on ``text``."""
     if found is None:
         raise ReaderError(
             "no columns of numbers found; delimited text needs one abscissa column and one value column "
             "separated by comma, semicolon, tab or blanks"
         )
     sep, sep_name, decimal_comma = found
-    header, rows_text, line_nos = _split_header(text, sep, decimal_comma)
-    table, width = _parse_rows(rows_text, line_nos, sep, decimal_comma)
+    lines = text.split("\n")
+    header, start = _split_header(lines, sep, decimal_comma)
+    table, width = _parse_rows(lines, start, sep, decimal_comma)
     rows = table.shape[0]
     if header is not None and len(header) != width:
         header = None  # free text before the data, not column names
@@ -141,11 +173,8 @@ def read_delimited(
         raise ReaderError(str(exc)) from None
 
 
-def _split_header(
-    text: str, sep: str | None, decimal_comma: bool
-) -> tuple[list[str] | None, list[str], list[int]]:
-    """(column names or None, the data lines, their file line numbers)."""
-    lines = text.split("\n")
+def _split_header(lines: list[str], sep: str | None, decimal_comma: bool) -> tuple[list[str] | None, int]:
+    """(column names or None, index of the first data line)."""
     header: list[str] | None = None
     for i, line in enumerate(lines):
         if not line.strip() or line.lstrip().startswith("#"):
@@ -154,42 +183,57 @@ def _split_header(
         while fields and fields[-1] == "":
             fields.pop()
         if _numeric_fields(fields, decimal_comma):
-            keep = [j for j in range(i, len(lines)) if lines[j].strip() and not lines[j].lstrip().startswith("#")]
-            return header, [lines[j] for j in keep], [j + 1 for j in keep]
+            return header, i
         header = fields
     raise ReaderError("no data lines found")
 
 
 def _parse_rows(
-    rows: list[str], line_nos: list[int], sep: str | None, decimal_comma: bool
+    lines: list[str], start: int, sep: str | None, decimal_comma: bool
 ) -> tuple[NDArray[np.float64], int]:
-    """All data lines at once with numpy; on any irregularity, a per-line pass finds the line to name."""
-    width = len([f for f in _split(rows[0], sep) if f.strip()])
-    if all('"' not in r for r in rows[:5]):
-        body = "\n".join(rows)
+    """The data lines from ``lines[start]`` on, all at once with numpy (whole-block tokenising, one
+    conversion call); on any irregularity, a per-line pass finds the line to name."""
+    rest = lines[start:]
+    width = len([f for f in _split(rest[0], sep) if f.strip()])
+    body = "\n".join(rest)
+    if '"' not in body:
+        if "#" in body:
+            rows = [ln for ln in rest if ln.strip() and not ln.lstrip().startswith("#")]
+            body = "\n".join(rows)
+            n_rows = len(rows)
+        else:
+            n_rows = len(list(filter(None, map(str.strip, rest))))  # the non-blank lines
         if decimal_comma:
             body = body.replace(",", ".")
         if sep is not None and sep != " ":
             body = body.replace(sep, " ")
         tokens = body.split()
-        if len(tokens) == width * len(rows):
+        if len(tokens) == width * n_rows:
             try:
                 values = np.array(tokens, dtype=np.float64)
             except ValueError:
                 pass
             else:
                 if np.isfinite(values).all():  # 'nan' and 'inf' parse; the slow pass names their line
-                    return values.reshape(len(rows), width), width
-    for k, line in enumerate(rows):
+                    return values.reshape(n_rows, width), width
+    return _parse_rows_by_line(lines, start, sep, decimal_comma, width)
+
+
+def _parse_rows_by_line(
+    lines: list[str], start: int, sep: str | None, decimal_comma: bool, width: int
+) -> tuple[NDArray[np.float64], int]:
+    keep = [j for j in range(start, len(lines)) if lines[j].strip() and not lines[j].lstrip().startswith("#")]
+    rows = [lines[j] for j in keep]
+    for j, line in zip(keep, rows):
         fields = [f.strip() for f in _split(line, sep)]
         while fields and fields[-1] == "":
             fields.pop()
         if not _numeric_fields(fields, decimal_comma):
             raise ReaderError(
-                f"line {line_nos[k]} ({line.strip()[:60]!r}) is not numbers; data lines must hold only numbers"
+                f"line {j + 1} ({line.strip()[:60]!r}) is not numbers; data lines must hold only numbers"
             )
         if len(fields) != width:
-            raise ReaderError(f"line {line_nos[k]} has {len(fields)} fields but line {line_nos[0]} has {width}")
+            raise ReaderError(f"line {j + 1} has {len(fields)} fields but line {keep[0] + 1} has {width}")
     values = [f.strip().replace(",", ".") if decimal_comma else f.strip()
               for r in rows for f in _split(r, sep) if f.strip()]
     return np.array(values, dtype=np.float64).reshape(len(rows), width), width

@@ -14,7 +14,7 @@ import re
 from dataclasses import replace
 
 from service.spectra.axis_units import XUnit
-from service.spectra.delimited import read_delimited, sniff
+from service.spectra.delimited import read_sniffed, sniff
 from service.spectra.jcamp_reader import JcampBlock, PeakTable, read_jcamp_blocks
 from service.spectra.model import Spectrum, YKind
 from service.spectra.reader_errors import ACCEPTED_FORMATS, CompoundFileError, ReaderError
@@ -79,14 +79,20 @@ def decode_text(data: bytes) -> str:
 
 def detect_format(text: str) -> str:
     """``"jcamp-dx"`` or ``"delimited-text"``, from the content alone."""
+    return _detect(text)[0]
+
+
+def _detect(text: str) -> tuple[str, tuple[str | None, str, bool] | None]:
+    """(format, the delimited layout found by ``sniff`` -- None for JCAMP-DX), so it is sniffed once."""
     head = text.lstrip()
     while head.startswith("$$"):
         nl = head.find("\n")
         head = head[nl + 1:].lstrip() if nl >= 0 else ""
     if head.startswith("##"):
-        return "jcamp-dx"
-    if sniff(text) is not None:
-        return "delimited-text"
+        return "jcamp-dx", None
+    found = sniff(text)
+    if found is not None:
+        return "delimited-text", found
     raise ReaderError(f"the content is neither JCAMP-DX nor columns of numbers; accepted formats: {ACCEPTED_FORMATS}")
 
 
@@ -118,11 +124,11 @@ def read_spectrum(
         raise ReaderError("read_spectrum takes the file's bytes")
     data = bytes(data)
     text = decode_text(data)
-    fmt = detect_format(text)
+    fmt, layout = _detect(text)
     if fmt == "jcamp-dx":
         spectrum = _one_jcamp_spectrum(read_jcamp_blocks(text, x_unit=x_unit, y_kind=y_kind))
     else:
-        spectrum = read_delimited(text, x_unit=x_unit, y_kind=y_kind)
+        spectrum = read_sniffed(text, layout, x_unit=x_unit, y_kind=y_kind)
     meta = replace(spectrum.meta, sha256=hashlib.sha256(data).hexdigest(), file_name=file_name, format=fmt)
     return replace(spectrum, meta=meta)
 
