@@ -14,6 +14,7 @@ from dataclasses import dataclass
 from datetime import datetime, timezone
 from typing import Any
 
+from sqlalchemy import insert
 from sqlmodel import Session, col, select
 
 from service.release.actor import Actor
@@ -46,6 +47,11 @@ def last_event(session: Session) -> AuditEvent | None:
     return session.exec(select(AuditEvent).order_by(col(AuditEvent.seq).desc()).limit(1)).first()
 
 
+# Built once: the head of the chain and the insert are on every write path.
+_HEAD = select(AuditEvent.seq, AuditEvent.hash).order_by(col(AuditEvent.seq).desc()).limit(1)
+_INSERT = insert(AuditEvent)
+
+
 def append_event(
     session: Session,
     *,
@@ -61,8 +67,8 @@ def append_event(
     """Append one event to the chain. Call only inside a writing UnitOfWork (it holds the lock)."""
     head = session.info.get("audit_head")  # (seq, hash) of the last event this transaction appended
     if head is None:
-        prev = last_event(session)
-        head = (prev.seq, prev.hash) if prev else (0, GENESIS_HASH)
+        row = session.exec(_HEAD).first()
+        head = (int(row[0]), str(row[1])) if row else (0, GENESIS_HASH)
     ev = AuditEvent(
         seq=head[0] + 1,
         occurred_at=(at or utc_now()).astimezone(timezone.utc),
@@ -78,10 +84,17 @@ def append_event(
         hash="",
     )
     ev.hash = event_hash(prev_hash=ev.prev_hash, fields=event_fields(ev))
-    session.add(ev)
-    session.flush()
+    # A plain INSERT (no ORM unit-of-work flush for a row that is never updated); the event is
+    # returned detached, with its id.
+    values = {c: getattr(ev, c) for c in _COLUMNS}
+    result = session.connection().execute(_INSERT, values)
+    ev.id = int(result.inserted_primary_key[0])
     session.info["audit_head"] = (ev.seq, ev.hash)
     return ev
+
+
+_COLUMNS = ("seq", "occurred_at", "user_id", "username", "action", "record_type", "record_id", "old_values",
+            "new_values", "reason", "prev_hash", "hash")
 
 
 @dataclass(frozen=True, kw_only=True)

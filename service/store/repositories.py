@@ -4,7 +4,7 @@ from __future__ import annotations
 
 from datetime import datetime
 
-from sqlalchemy import func
+from sqlalchemy import bindparam, func
 from sqlmodel import Session, col, select
 
 from service.release.digests import sha256_hex
@@ -13,6 +13,40 @@ from service.store.tables import (
     MeasurementInvalidation, ReferenceSpectrum, Signature, SpecificationVersion, StoredFile, Supplier,
     SupplierApproval, User, utc_now,
 )
+
+
+# Statements on the upload path are built once, with bound parameters: building a select and
+# computing its cache key costs more than running it on SQLite, and a reused statement object keeps
+# its cache key (SQLAlchemy memoises it), so each call goes straight to the compiled-SQL cache.
+_LOT_BY_CODE = select(Lot).where(Lot.code == bindparam("code"))
+_CONTAINER_BY_NUMBER = select(LotContainer).where(LotContainer.lot_id == bindparam("lot_id"),
+                                                  LotContainer.number == bindparam("number"))
+_INSTRUMENT_BY_CODE = select(Instrument).where(Instrument.code == bindparam("code"))
+_LAST_PASSING_CHECK = (select(InstrumentCheck)
+                       .where(InstrumentCheck.instrument_id == bindparam("instrument_id"),
+                              col(InstrumentCheck.passed).is_(True))
+                       .order_by(col(InstrumentCheck.checked_at).desc(), col(InstrumentCheck.id).desc()).limit(1))
+_APPROVED_SPEC = (select(SpecificationVersion)
+                  .where(SpecificationVersion.material_id == bindparam("material_id"),
+                         SpecificationVersion.status == "approved")
+                  .order_by(col(SpecificationVersion.version).desc()).limit(1))
+_APPROVED_REFERENCE_ANY = (select(ReferenceSpectrum)
+                           .where(ReferenceSpectrum.material_id == bindparam("material_id"),
+                                  ReferenceSpectrum.status == "approved")
+                           .order_by(col(ReferenceSpectrum.id).desc()).limit(1))
+_APPROVED_REFERENCE_PREP = (select(ReferenceSpectrum)
+                            .where(ReferenceSpectrum.material_id == bindparam("material_id"),
+                                   ReferenceSpectrum.status == "approved",
+                                   ReferenceSpectrum.preparation == bindparam("preparation"))
+                            .order_by(col(ReferenceSpectrum.id).desc()).limit(1))
+_REFERENCES_BY_STATUS = (select(ReferenceSpectrum).where(ReferenceSpectrum.status == bindparam("status"))
+                         .order_by(col(ReferenceSpectrum.id)))
+_MATERIALS = select(Material).order_by(col(Material.code))
+_MEASUREMENTS_FOR_CONTAINER = (select(Measurement).where(Measurement.container_id == bindparam("container_id"))
+                               .order_by(col(Measurement.id)))
+_INVALIDATIONS_FOR = (select(MeasurementInvalidation)
+                      .where(col(MeasurementInvalidation.measurement_id).in_(bindparam("ids", expanding=True))))
+_USER_BY_USERNAME = select(User).where(User.username == bindparam("username"))
 
 
 def add(session: Session, row: object) -> None:
@@ -49,7 +83,7 @@ def user_by_id(session: Session, user_id: int) -> User | None:
 
 
 def user_by_username(session: Session, username: str) -> User | None:
-    return session.exec(select(User).where(User.username == username)).first()
+    return session.exec(_USER_BY_USERNAME, params={"username": username}).first()
 
 
 def list_users(session: Session) -> list[User]:
@@ -61,7 +95,7 @@ def material_by_code(session: Session, code: str) -> Material | None:
 
 
 def list_materials(session: Session) -> list[Material]:
-    return list(session.exec(select(Material).order_by(col(Material.code))).all())
+    return list(session.exec(_MATERIALS).all())
 
 
 def supplier_by_name(session: Session, name: str) -> Supplier | None:
@@ -88,9 +122,7 @@ def spec_versions(session: Session, material_id: int) -> list[SpecificationVersi
 
 
 def approved_spec(session: Session, material_id: int) -> SpecificationVersion | None:
-    return session.exec(select(SpecificationVersion).where(
-        SpecificationVersion.material_id == material_id, SpecificationVersion.status == "approved")
-        .order_by(col(SpecificationVersion.version).desc())).first()
+    return session.exec(_APPROVED_SPEC, params={"material_id": material_id}).first()
 
 
 def next_spec_version(session: Session, material_id: int) -> int:
@@ -100,6 +132,8 @@ def next_spec_version(session: Session, material_id: int) -> int:
 
 
 def references(session: Session, material_id: int | None = None, status: str | None = None) -> list[ReferenceSpectrum]:
+    if material_id is None and status is not None:
+        return list(session.exec(_REFERENCES_BY_STATUS, params={"status": status}).all())
     q = select(ReferenceSpectrum)
     if material_id is not None:
         q = q.where(ReferenceSpectrum.material_id == material_id)
@@ -109,15 +143,14 @@ def references(session: Session, material_id: int | None = None, status: str | N
 
 
 def approved_reference(session: Session, material_id: int, preparation: str | None) -> ReferenceSpectrum | None:
-    q = select(ReferenceSpectrum).where(ReferenceSpectrum.material_id == material_id,
-                                        ReferenceSpectrum.status == "approved")
     if preparation:
-        q = q.where(ReferenceSpectrum.preparation == preparation)
-    return session.exec(q.order_by(col(ReferenceSpectrum.id).desc())).first()
+        return session.exec(_APPROVED_REFERENCE_PREP,
+                            params={"material_id": material_id, "preparation": preparation}).first()
+    return session.exec(_APPROVED_REFERENCE_ANY, params={"material_id": material_id}).first()
 
 
 def instrument_by_code(session: Session, code: str) -> Instrument | None:
-    return session.exec(select(Instrument).where(Instrument.code == code)).first()
+    return session.exec(_INSTRUMENT_BY_CODE, params={"code": code}).first()
 
 
 def list_instruments(session: Session) -> list[Instrument]:
@@ -125,9 +158,7 @@ def list_instruments(session: Session) -> list[Instrument]:
 
 
 def last_passing_check(session: Session, instrument_id: int) -> InstrumentCheck | None:
-    return session.exec(select(InstrumentCheck).where(
-        InstrumentCheck.instrument_id == instrument_id, col(InstrumentCheck.passed).is_(True))
-        .order_by(col(InstrumentCheck.checked_at).desc(), col(InstrumentCheck.id).desc())).first()
+    return session.exec(_LAST_PASSING_CHECK, params={"instrument_id": instrument_id}).first()
 
 
 def checks_for(session: Session, instrument_id: int, limit: int = 50) -> list[InstrumentCheck]:
@@ -136,7 +167,7 @@ def checks_for(session: Session, instrument_id: int, limit: int = 50) -> list[In
 
 
 def lot_by_code(session: Session, code: str) -> Lot | None:
-    return session.exec(select(Lot).where(Lot.code == code)).first()
+    return session.exec(_LOT_BY_CODE, params={"code": code}).first()
 
 
 def count_lots_since(session: Session, since: datetime) -> int:
@@ -168,8 +199,7 @@ def containers(session: Session, lot_id: int) -> list[LotContainer]:
 
 
 def container_by_number(session: Session, lot_id: int, number: int) -> LotContainer | None:
-    return session.exec(select(LotContainer).where(LotContainer.lot_id == lot_id,
-                                                   LotContainer.number == number)).first()
+    return session.exec(_CONTAINER_BY_NUMBER, params={"lot_id": lot_id, "number": number}).first()
 
 
 def measurements_for_lot(session: Session, lot_id: int) -> list[Measurement]:
@@ -191,8 +221,7 @@ def evaluations_for(session: Session, measurement_ids: list[int]) -> dict[int, E
 def invalidations_for(session: Session, measurement_ids: list[int]) -> dict[int, MeasurementInvalidation]:
     if not measurement_ids:
         return {}
-    rows = session.exec(select(MeasurementInvalidation)
-                        .where(col(MeasurementInvalidation.measurement_id).in_(measurement_ids))).all()
+    rows = session.exec(_INVALIDATIONS_FOR, params={"ids": list(measurement_ids)}).all()
     return {r.measurement_id: r for r in rows}
 
 
@@ -282,5 +311,4 @@ def lot_states(session: Session) -> dict[int, tuple[str, str]]:
 
 
 def measurements_for_container(session: Session, container_id: int) -> list[Measurement]:
-    return list(session.exec(select(Measurement).where(Measurement.container_id == container_id)
-                             .order_by(col(Measurement.id))).all())
+    return list(session.exec(_MEASUREMENTS_FOR_CONTAINER, params={"container_id": container_id}).all())
