@@ -180,7 +180,7 @@ def record_measurement(engine: Engine, actor: Actor, *, lot_code: str, container
     data = bytes(data)
     file_name = (file_name or "").replace("\x00", "")[:MAX_FILE_NAME]
 
-    def resolve(s: Session) -> tuple[Lot, LotContainer, Instrument, str | None]:
+    def resolve(s: Session, *, judge: bool = True) -> tuple[Lot, LotContainer, Instrument, str | None]:
         lot = sh.lot(s, lot_code)
         if LotState(lot.state).is_final:
             raise Conflict(f"lot {lot.code} is closed ({LotState(lot.state).label}); nothing more can be "
@@ -190,11 +190,13 @@ def record_measurement(engine: Engine, actor: Actor, *, lot_code: str, container
             raise NotFound(f"lot {lot.code} has containers 1 to {lot.containers_received}; there is no "
                            f"container {container}", fields=[FieldProblem("container", "pick a listed container")])
         inst = sh.instrument(s, instrument_code)
+        if not judge:  # the unlocked look-up only fails early on unknown names; the write re-judges everything
+            return lot, cont, inst, None
         ok, _last, _until, text = qualification(s, inst, check_days=check_days)
         return lot, cont, inst, _refusal(s, lot, cont, (ok, text))
 
     with UnitOfWork(engine, write=False) as uow:  # no lock: look up what the evaluation rests on
-        lot, _cont, _inst, _refused = resolve(uow.session)  # unknown names and closed lots fail here, early
+        lot, _cont, _inst, _refused = resolve(uow.session, judge=False)  # unknown names, closed lots fail early
         basis = _basis(uow.session, lot, load=True)
     status, reason, evaluation = "refused", basis.missing or "", None
     if basis.missing is None:
