@@ -6,12 +6,20 @@ appended one at a time and the chain never forks under concurrent writers:
 * SQLite: ``BEGIN IMMEDIATE`` (the engine's begin hook reads ``conn.info["sqlite_begin"]``);
 * PostgreSQL: a transaction-scoped advisory lock, ``pg_advisory_xact_lock``.
 
+On SQLite, writers of the same process also queue on an in-process lock (per engine) before
+``BEGIN IMMEDIATE``: SQLite's busy handler makes a waiting writer sleep in growing steps (up to
+100 ms each), so under several concurrent uploads the unlucky ones waited close to a second while
+the lock was free most of that time; a Python lock hands it over at once, in arrival order.
+Other processes still meet SQLite's own lock and busy timeout.
+
 Any state read after the lock is taken is the latest committed state, so a check-then-write in
 the same unit of work (e.g. "the lot is still awaiting disposition, so release it") is safe.
 """
 
 from __future__ import annotations
 
+import threading
+import weakref
 from types import TracebackType
 
 from sqlalchemy import text
@@ -19,6 +27,18 @@ from sqlalchemy.engine import Connection, Engine
 from sqlmodel import Session
 
 WRITE_LOCK_KEY = 0x42414E44  # a fixed advisory-lock key for Bandgate record writes
+LOCAL_WAIT_S = 30.0  # as SQLite's busy timeout; after it, SQLite's own lock decides (and may refuse)
+
+_local_locks: "weakref.WeakKeyDictionary[Engine, threading.RLock]" = weakref.WeakKeyDictionary()
+_local_locks_guard = threading.Lock()
+
+
+def _local_write_lock(engine: Engine) -> threading.RLock:
+    with _local_locks_guard:
+        lock = _local_locks.get(engine)
+        if lock is None:
+            lock = _local_locks[engine] = threading.RLock()
+        return lock
 
 
 class UnitOfWork:
@@ -29,10 +49,19 @@ class UnitOfWork:
         self.write = write
         self._conn: Connection | None = None
         self._committed = False
+        self._local_lock: threading.RLock | None = None
         self.session: Session
 
     def __enter__(self) -> "UnitOfWork":
-        conn = self.engine.connect()
+        if self.write and self.engine.dialect.name == "sqlite":
+            lock = _local_write_lock(self.engine)
+            if lock.acquire(timeout=LOCAL_WAIT_S):
+                self._local_lock = lock
+        try:
+            conn = self.engine.connect()
+        except BaseException:
+            self._release_local()
+            raise
         try:
             if conn.dialect.name == "sqlite" and self.write:
                 conn.info["sqlite_begin"] = "BEGIN IMMEDIATE"
@@ -42,6 +71,7 @@ class UnitOfWork:
         except BaseException:
             conn.info.pop("sqlite_begin", None)
             conn.close()
+            self._release_local()
             raise
         self._conn = conn
         self.session = Session(bind=conn, expire_on_commit=False, autoflush=True)
@@ -69,6 +99,14 @@ class UnitOfWork:
             if not self._committed:
                 self.rollback()
         finally:
-            self.session.close()
-            if self._conn is not None:
-                self._conn.close()
+            try:
+                self.session.close()
+                if self._conn is not None:
+                    self._conn.close()
+            finally:
+                self._release_local()
+
+    def _release_local(self) -> None:
+        if self._local_lock is not None:
+            lock, self._local_lock = self._local_lock, None
+            lock.release()
