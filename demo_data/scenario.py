@@ -137,8 +137,8 @@ LOTS: tuple[DemoLot, ...] = (
     DemoLot(
         key="instrument-lapsed", material="EXC-104", supplier="SUP-ARD", supplier_lot="ARD-PV-7702", containers=1,
         instrument="FTIR-02", outcome="refused", expect_refused=True,
-        story="FTIR-02 has no current passing polystyrene check (its latest check film showed the wavenumber "
-              "scale drifted): the upload is kept but refused until the instrument passes a check again.",
+        story="FTIR-02's polystyrene check passed but its film was measured three days ago, so it has lapsed "
+              "(period 1 day): the upload is kept but refused until the instrument passes a check again.",
         measurements=(
             DemoMeasurement(file_stem="EXC-104_lot-ARD-PV-7702_c1", container=1, content="EXC-104", expect="pass"),
         ),

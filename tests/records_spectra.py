@@ -60,3 +60,18 @@ def synthetic_polystyrene_csv() -> bytes:
     for pos, height, hw in bands:
         y += height / (1.0 + ((x - pos) / hw) ** 2)
     return _csv(x, y, "synthetic polystyrene film")
+
+
+def synthetic_polystyrene_jcamp(*, time_lines: tuple[str, ...] = (), shift_cm1: float = 0.0) -> bytes:
+    """The SYNTHETIC polystyrene film as JCAMP-DX, with header lines such as ``##LONGDATE=...`` after the title.
+
+    ``shift_cm1`` moves the wavenumber scale (a film measured on a drifted scale fails the check).
+    """
+    from service.spectra import YKind, read_spectrum, write_jcamp
+    from service.spectra.model import Spectrum, SpectrumMeta
+
+    film = read_spectrum(synthetic_polystyrene_csv(), file_name="ps.csv")
+    film = Spectrum.create(film.x + shift_cm1, film.y, YKind.absorbance,
+                           meta=SpectrumMeta(title="SYNTHETIC polystyrene film"))
+    lines = write_jcamp(film, form="affn").splitlines()
+    return ("\n".join(lines[:1] + list(time_lines) + lines[1:]) + "\n").encode("ascii")

@@ -6,6 +6,7 @@ raises the typed errors of ``service.errors``. See ``docs/records.md``.
 """
 
 from service.release.actor import Actor
+from service.release.qualification import CheckTimeRefused
 from service.services.audit_trail import AuditReport, audit_events, export_lot, lot_record, verify_audit
 from service.services.catalog import (
     approve_supplier, create_material, create_supplier, create_user, get_actor, get_material, list_materials,
@@ -26,7 +27,7 @@ from service.services.specifications import (
 from service.store.audit import SYSTEM_ACTOR
 
 __all__ = [
-    "Actor", "AuditReport", "MeasurementRefused", "SYSTEM_ACTOR", "UploadUnreadable", "add_reference",
+    "Actor", "AuditReport", "CheckTimeRefused", "MeasurementRefused", "SYSTEM_ACTOR", "UploadUnreadable", "add_reference",
     "approve_reference", "approve_spec_version", "approve_supplier", "audit_events", "create_material",
     "create_spec_draft", "create_supplier", "create_user", "dispose_lot", "effective_spec", "export_lot",
     "get_actor", "get_instrument", "get_lot", "get_material", "get_measurement", "get_spec_version",

@@ -12,7 +12,6 @@ run on the seeded database creates nothing new.
 
 from __future__ import annotations
 
-import inspect
 import json
 from collections.abc import Callable
 from dataclasses import dataclass
@@ -66,7 +65,6 @@ DEMO_PEOPLE: tuple[DemoPerson, ...] = (
 )
 
 CHECK_FILE_PASS = "instrument/polystyrene-film_pass.jdx"
-CHECK_FILE_SHIFTED = "instrument/polystyrene-film_scale-shifted.jdx"
 
 REVIEW_REASONS = {
     "reject": "Identity test failed: ester carbonyl band near 1735 cm-1 where povidone must show none; the drum "
@@ -234,25 +232,31 @@ def _set_up_instruments(engine: Engine, qa: Actor, tech: Actor, manifest: dict[s
 
 
 def _record_check(engine: Engine, tech: Actor, inst: dict[str, Any], data_dir: Path) -> None:
-    """Record the instrument's polystyrene check, dated ``check_age_days`` ago where the use case allows.
+    """Record the instrument's polystyrene check, its film measured ``check_age_days`` ago.
 
-    Where the check use case takes no time of measurement, an instrument meant to be out of
-    qualification gets a failing check instead (its film measured with a drifted scale): not
-    qualified either way, and the refusal message says what to do.
+    A check meant to be old gets its measurement time written into a copy of the committed film's
+    bytes at seeding time (``##LONGDATE``, in UTC, and a ``$$`` line saying the date is synthetic), so
+    the ordinary check use case reads it from the file like any instrument's export: the check passes,
+    is recorded now, and has lapsed by age. The committed file itself carries no date.
     """
     age = float(inst.get("check_age_days", 0.0))
-    params = inspect.signature(uc.record_instrument_check).parameters
-    when_param = next((n for n in ("checked_at", "measured_at", "now") if n in params), None)
-    file = CHECK_FILE_PASS
-    extra: dict[str, Any] = {}
+    path = data_dir / CHECK_FILE_PASS
+    data, name = path.read_bytes(), path.name
     if age > 0:
-        if when_param is not None:
-            extra[when_param] = datetime.now(timezone.utc) - timedelta(days=age)
-        else:
-            file = CHECK_FILE_SHIFTED
-    path = data_dir / file
-    uc.record_instrument_check(engine, tech, instrument_code=inst["code"], data=path.read_bytes(),
-                               file_name=path.name, **extra)
+        measured = datetime.now(timezone.utc) - timedelta(days=age)
+        data = dated_copy(data, measured)
+        name = f"{path.stem}_measured-{measured:%Y%m%d}{path.suffix}"
+    uc.record_instrument_check(engine, tech, instrument_code=inst["code"], data=data, file_name=name)
+
+
+def dated_copy(jcamp: bytes, measured: datetime) -> bytes:
+    """The JCAMP-DX bytes with ``##LONGDATE`` (UTC, JCAMP-DX 5.01 offset form) inserted after ``##TITLE``."""
+    lines = jcamp.decode("ascii").split("\n")
+    if not lines or not lines[0].startswith("##TITLE="):
+        raise ValueError("the demo polystyrene file must start with ##TITLE=")
+    stamp = [f"##LONGDATE={measured.astimezone(timezone.utc):%Y/%m/%d %H:%M:%S} +0000",
+             "$$ SYNTHETIC DEMO DATA - measurement date written when the demo was seeded"]
+    return "\n".join(lines[:1] + stamp + lines[1:]).encode("ascii")
 
 
 def _keep_instrument_qualified(engine: Engine, settings: Settings, manifest: dict[str, Any], data_dir: Path) -> None:

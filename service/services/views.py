@@ -106,9 +106,12 @@ class InstrumentView(_View):
     location: str
     active: bool
     qualified: bool
-    last_passing_check_at: datetime | None
-    qualified_until: datetime | None
+    last_passing_check_at: datetime | None  # when the last passing check's film was measured (else recorded)
+    qualified_until: datetime | None  # only while the most recent check passed
     status_text: str
+    last_check_passed: bool | None = None  # the most recent check (by measurement time); None: no check yet
+    last_check_measured_at: datetime | None = None  # as the file says (UTC); None: the file carries no time
+    last_check_recorded_at: datetime | None = None  # the server's recording time (audit time)
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -119,8 +122,10 @@ class InstrumentCheckView(_View):
     result: dict[str, Any]
     file_name: str
     sha256: str
-    checked_at: datetime
+    checked_at: datetime  # the server's recording time (the audit time)
     checked_by: int
+    measured_at: datetime | None = None  # the film's measurement time from the file (UTC); None: not in the file
+    counts_from: datetime | None = None  # what qualification counts from: measured_at, else checked_at
 
 
 @dataclass(frozen=True, kw_only=True)

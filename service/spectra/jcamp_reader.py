@@ -13,7 +13,7 @@ from __future__ import annotations
 
 import re
 from dataclasses import dataclass, field
-from datetime import datetime
+from datetime import datetime, timedelta, timezone
 from typing import Any
 
 import numpy as np
@@ -375,7 +375,7 @@ def _measured_at(block: Block) -> datetime | None:
             core = re.split(r"\.\d+|\s*[+-]\d{2}:?\d{2}$|\s*[A-Z]{3,4}$", text.strip())[0].strip()
             for fmt in fmts:
                 try:
-                    return datetime.strptime(core, fmt)
+                    return _with_offset(datetime.strptime(core, fmt), text.strip())
                 except ValueError:
                     continue
     date, time = block.text("DATE"), block.text("TIME")
@@ -387,3 +387,17 @@ def _measured_at(block: Block) -> datetime | None:
             except ValueError:
                 continue
     return None
+
+
+def _with_offset(stamp: datetime, text: str) -> datetime:
+    """Attach the UTC offset written after the time (JCAMP-DX 5.01 ``##LONGDATE``: ``[+-]UUUU``, or ``UTC``/``GMT``).
+
+    A time written without an offset stays naive: the file does not say which clock it is on.
+    """
+    m = re.search(r"\d\s*([+-])(\d{2}):?(\d{2})$", text)
+    if m:
+        minutes = int(m.group(2)) * 60 + int(m.group(3))
+        return stamp.replace(tzinfo=timezone(timedelta(minutes=minutes if m.group(1) == "+" else -minutes)))
+    if re.search(r"\s(UTC|GMT|Z)$", text):
+        return stamp.replace(tzinfo=timezone.utc)
+    return stamp

@@ -109,7 +109,8 @@ def write_jcamp(
         f"##OWNER={_clean(owner)}",
     ]
     if meta.measured_at is not None:
-        head.append(f"##LONGDATE={meta.measured_at.strftime('%Y/%m/%d %H:%M:%S')}")
+        offset = meta.measured_at.strftime(" %z") if meta.measured_at.tzinfo else ""  # JCAMP-DX 5.01 [+-]UUUU
+        head.append(f"##LONGDATE={meta.measured_at.strftime('%Y/%m/%d %H:%M:%S')}{offset}")
     if meta.instrument:
         head.append(f"##SPECTROMETER/DATA SYSTEM={_clean(meta.instrument)}")
     if meta.resolution_cm1:

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from datetime import datetime
+from typing import Any
 
 from sqlalchemy import bindparam, func
 from sqlmodel import Session, col, select
@@ -22,10 +23,6 @@ _LOT_BY_CODE = select(Lot).where(Lot.code == bindparam("code"))
 _CONTAINER_BY_NUMBER = select(LotContainer).where(LotContainer.lot_id == bindparam("lot_id"),
                                                   LotContainer.number == bindparam("number"))
 _INSTRUMENT_BY_CODE = select(Instrument).where(Instrument.code == bindparam("code"))
-_LAST_PASSING_CHECK = (select(InstrumentCheck)
-                       .where(InstrumentCheck.instrument_id == bindparam("instrument_id"),
-                              col(InstrumentCheck.passed).is_(True))
-                       .order_by(col(InstrumentCheck.checked_at).desc(), col(InstrumentCheck.id).desc()).limit(1))
 _APPROVED_SPEC = (select(SpecificationVersion)
                   .where(SpecificationVersion.material_id == bindparam("material_id"),
                          SpecificationVersion.status == "approved")
@@ -157,8 +154,21 @@ def list_instruments(session: Session) -> list[Instrument]:
     return list(session.exec(select(Instrument).order_by(col(Instrument.code))).all())
 
 
+def _check_time() -> Any:
+    """When a check's film was measured: the time from its file, else its recording time."""
+    return func.coalesce(col(InstrumentCheck.measured_at), col(InstrumentCheck.checked_at))
+
+
 def last_passing_check(session: Session, instrument_id: int) -> InstrumentCheck | None:
-    return session.exec(_LAST_PASSING_CHECK, params={"instrument_id": instrument_id}).first()
+    return session.exec(select(InstrumentCheck).where(
+        InstrumentCheck.instrument_id == instrument_id, col(InstrumentCheck.passed).is_(True))
+        .order_by(_check_time().desc(), col(InstrumentCheck.id).desc())).first()
+
+
+def latest_check(session: Session, instrument_id: int) -> InstrumentCheck | None:
+    """The instrument's most recently measured check, passed or not (ties: the later recorded)."""
+    return session.exec(select(InstrumentCheck).where(InstrumentCheck.instrument_id == instrument_id)
+                        .order_by(_check_time().desc(), col(InstrumentCheck.id).desc())).first()
 
 
 def checks_for(session: Session, instrument_id: int, limit: int = 50) -> list[InstrumentCheck]:

@@ -124,8 +124,9 @@ class InstrumentCheck(SQLModel, table=True):
     file_name: str = Field(default="", sa_column=Column(String(255), nullable=False))
     passed: bool = Field(sa_column=Column(Boolean, nullable=False))
     result: str = _text()  # JSON of the check items
-    checked_at: datetime = _ts()
+    checked_at: datetime = _ts()  # the server's recording time (the audit time)
     checked_by: int = _fk("users.id", index=False)
+    measured_at: datetime | None = _ts(nullable=True)  # the film's measurement time from the file; NULL = checked_at
 
 
 class ReferenceSpectrum(SQLModel, table=True):

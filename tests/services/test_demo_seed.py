@@ -12,6 +12,7 @@ import sqlite3
 import subprocess
 import sys
 from pathlib import Path
+from datetime import timedelta
 from typing import Any
 
 import pytest
@@ -19,6 +20,7 @@ import pytest
 from service import services as uc
 from service.config import Mode, Settings
 from service.services.security_accounts import create_user as create_person
+from service.services import check_files
 from service.services.demo import DEMO_DATA_DIR, DEMO_PEOPLE, DemoRefused, seed_demo
 from service.services.security_sessions import sign_in
 from service.store.demo_marker import SEEDED, demo_marker
@@ -67,10 +69,19 @@ def test_every_material_has_an_approved_spec_reference_and_supplier(seeded: dict
         assert any(a.active for a in uc.supplier_approvals(engine, m["code"]))
 
 
-def test_one_instrument_is_qualified_and_the_other_is_not(seeded: dict[str, Any]) -> None:
+def test_one_instrument_is_qualified_and_the_other_has_a_passing_but_lapsed_check(seeded: dict[str, Any]) -> None:
     engine, days = seeded["engine"], seeded["settings"].instrument_check_days
     assert uc.get_instrument(engine, "FTIR-01", check_days=days).qualified
-    assert not uc.get_instrument(engine, "FTIR-02", check_days=days).qualified
+    ftir02 = uc.get_instrument(engine, "FTIR-02", check_days=days)
+    assert not ftir02.qualified and ftir02.last_check_passed is True
+    assert "passed but was measured" in ftir02.status_text
+    (check,) = uc.instrument_checks(engine, "FTIR-02")
+    assert check.passed and check.measured_at is not None
+    # the film time (written into a copy of the file at seeding) is three days before the recording time
+    age = check.checked_at - check.measured_at
+    assert timedelta(days=3) - timedelta(minutes=5) < age < timedelta(days=3) + timedelta(minutes=5)
+    _view, stored = check_files.instrument_check_file(engine, check.id)
+    assert b"##LONGDATE=" in stored and b"SYNTHETIC DEMO DATA - measurement date written" in stored
 
 
 def test_clean_pass_awaits_qa_disposition(seeded: dict[str, Any]) -> None:
@@ -111,7 +122,9 @@ def test_upload_on_the_unqualified_instrument_is_kept_but_refused(seeded: dict[s
     lot = seeded["lots"]["instrument-lapsed"]
     assert lot.state == "quarantine"
     (m,) = lot.measurements
-    assert m.status == "refused" and m.evaluation is None and "polystyrene" in m.reason
+    assert m.status == "refused" and m.evaluation is None
+    assert "passed but was measured" in m.reason and "older than 1 day(s)" in m.reason
+    assert "run the polystyrene check on FTIR-02 and upload it, then measure again" in m.reason
 
 
 def test_failed_lot_was_reviewed_and_rejected_with_a_signature(seeded: dict[str, Any]) -> None:

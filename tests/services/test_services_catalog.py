@@ -76,7 +76,7 @@ def test_measurement_on_unqualified_instrument_is_kept_as_refused(engine) -> Non
     inst = uc.register_instrument(engine, people["qa"], code="FTIR-9", kind="FT-IR")
     assert not inst.qualified and "no passing polystyrene check" in inst.status_text
     lot = receive(engine, people["tech"])
-    with pytest.raises(uc.MeasurementRefused, match="record a passing check") as info:
+    with pytest.raises(uc.MeasurementRefused, match="run the polystyrene check on FTIR-9 and upload it, then measure again") as info:
         uc.record_measurement(engine, people["tech"], lot_code=lot.code, container=1, instrument_code="FTIR-9",
                               data=b"anything", file_name="a.csv")
     kept = info.value.measurement

@@ -148,7 +148,7 @@ def test_invalid_verdict_is_recorded_and_the_container_stays_open(lab) -> None: 
 def test_unqualified_instrument_is_refused_with_what_to_do(lab) -> None:  # type: ignore[no-untyped-def]
     lot = _lot(lab, containers=1)
     uc.register_instrument(lab.engine, lab.qa, code="FTIR-2", kind="FT-IR")
-    with pytest.raises(uc.MeasurementRefused, match="record a passing check"):
+    with pytest.raises(uc.MeasurementRefused, match="run the polystyrene check on FTIR-2 and upload it, then measure again"):
         uc.record_measurement(lab.engine, lab.tech, lot_code=lot.code, container=1, instrument_code="FTIR-2",
                               data=sp.real_csv("toluene"), file_name="t.csv")
     # with a zero-length period, even a fresh check has lapsed

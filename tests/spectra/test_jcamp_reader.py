@@ -317,3 +317,20 @@ def test_metadata_is_taken_from_the_header() -> None:
     assert declared is not None and s.meta.instrument == declared.group(1).decode().strip() != ""
     assert s.meta.measured_at is not None and s.meta.measured_at.isoformat() == "1997-01-01T13:24:13"
     assert read_spectrum(raw("fixinc2")).meta.resolution_cm1 == 2.0
+
+
+@pytest.mark.parametrize(("longdate", "offset_minutes"), [
+    ("2026/11/29 08:15:00 +0100", 60), ("2026/11/29 08:15:00.25 -05:30", -330), ("2026/11/29 08:15:00 UTC", 0),
+    ("2026/11/29 08:15:00", None)])
+def test_longdate_keeps_its_utc_offset(longdate: str, offset_minutes: int | None) -> None:
+    """JCAMP-DX 5.01: ##LONGDATE=YYYY/MM/DD HH:MM:SS[.SSSS] [+-]UUUU, the offset from UTC; none: a naive time."""
+    from datetime import timedelta
+
+    head = ["##XUNITS=1/CM", "##YUNITS=ABSORBANCE", "##XFACTOR=1", "##YFACTOR=0.001", "##FIRSTX=1000",
+            "##LASTX=1190", "##NPOINTS=20", f"##LONGDATE={longdate}"]
+    t = read_spectrum(_mini(head, "##XYDATA=(X++(Y..Y))", _points())).meta.measured_at
+    assert t is not None and (t.year, t.month, t.day, t.hour, t.minute) == (2026, 11, 29, 8, 15)
+    if offset_minutes is None:
+        assert t.tzinfo is None
+    else:
+        assert t.utcoffset() == timedelta(minutes=offset_minutes)

@@ -127,6 +127,12 @@ def test_metadata_is_written_and_read_back() -> None:
     assert back.meta.title == "lot 42 $ $ not a comment"
     assert (back.meta.origin, back.meta.instrument, back.meta.resolution_cm1) == ("QC lab", "FT-IR 1", 4.0)
     assert back.meta.measured_at == datetime(2026, 12, 1, 9, 30, 0)
+    from datetime import timedelta, timezone
+
+    cet = datetime(2026, 12, 1, 9, 30, 0, tzinfo=timezone(timedelta(hours=1)))
+    text = write_jcamp(Spectrum.create(s.x, s.y, s.kind, meta=SpectrumMeta(measured_at=cet)))
+    assert "##LONGDATE=2026/12/01 09:30:00 +0100" in text  # JCAMP-DX 5.01 [+-]UUUU
+    assert read_spectrum(text.encode()).meta.measured_at == cet
 
 
 # -- property: any generated spectrum written and read again round-trips ---------------------------

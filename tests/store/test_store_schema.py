@@ -99,3 +99,36 @@ def test_sqlite_runs_in_wal_mode_with_full_sync(sqlite_url: str) -> None:
         assert conn.exec_driver_sql("PRAGMA journal_mode").scalar_one() == "wal"
         assert conn.exec_driver_sql("PRAGMA synchronous").scalar_one() == 2  # FULL
     engine.dispose()
+
+
+def test_migration_0005_adds_and_removes_the_check_measurement_time(db_url: str) -> None:
+    """0005 adds instrument_checks.measured_at (old rows keep NULL); its downgrade drops it and keeps the
+    append-only triggers of the table on both back-ends."""
+    from sqlalchemy import inspect as sa_inspect
+
+    from service.store.migrations import downgrade, upgrade
+
+    engine = make_engine(db_url)
+    people = make_people(engine)
+    from service import services as uc
+    import records_spectra
+
+    uc.register_instrument(engine, people["qa"], code="FTIR-1", kind="FT-IR")
+    uc.record_instrument_check(engine, people["tech"], instrument_code="FTIR-1",
+                               data=records_spectra.synthetic_polystyrene_csv(), file_name="ps.csv")
+    engine.dispose()
+    downgrade(db_url, "0004")
+    engine = make_engine(db_url)
+    assert "measured_at" not in {c["name"] for c in sa_inspect(engine).get_columns("instrument_checks")}
+    with pytest.raises(DBAPIError, match="append-only"):
+        with engine.begin() as conn:
+            conn.execute(text("DELETE FROM instrument_checks"))
+    engine.dispose()
+    upgrade(db_url)
+    engine = make_engine(db_url)
+    with engine.connect() as conn:
+        assert conn.execute(text("SELECT COUNT(*), COUNT(measured_at) FROM instrument_checks")).one() == (1, 0)
+    with pytest.raises(DBAPIError, match="append-only"):
+        with engine.begin() as conn:
+            conn.execute(text("UPDATE instrument_checks SET passed = passed"))
+    engine.dispose()

@@ -177,6 +177,9 @@ def read_instrument(code: Code, request: Request, principal: Read) -> dict[str, 
     responses=problems(404, *WRITE), tags=["instruments"], summary="Record a polystyrene check",
     description="Multipart `file`: the polystyrene film spectrum. The check runs on the server and is kept "
     "with the file whatever the result (an unreadable file is kept as a failed check, with the reason). "
+    "The time the film was measured is taken from the file when it carries one (JCAMP-DX `##LONGDATE`, or "
+    "`##DATE`/`##TIME`; no UTC offset = UTC) and qualification counts from it; a file time more than 5 minutes "
+    "in the future or more than 30 days before the upload is refused with 422 and nothing is stored. "
     "Honours `Idempotency-Key`.",
     openapi_extra={"requestBody": {"content": {"multipart/form-data": {"example": {
         "file": "(polystyrene film spectrum, JCAMP-DX or CSV)"}}}}},

@@ -303,16 +303,26 @@ class InstrumentOut(BaseModel):
     model_config = _examples({"id": 2, "code": "FTIR-02", "kind": "FT-IR with diamond ATR", "location": "Goods-in lab",
                               "active": True, "qualified": True, "last_passing_check_at": "2026-12-02T07:30:00+00:00",
                               "qualified_until": "2026-12-03T07:30:00+00:00",
-                              "status_text": "qualified until 2026-12-03 07:30 UTC"})
+                              "status_text": "qualified until 2026-12-03 07:30 UTC", "last_check_passed": True,
+                              "last_check_measured_at": "2026-12-02T07:30:00+00:00",
+                              "last_check_recorded_at": "2026-12-02T07:41:12+00:00"})
     id: int
     code: str
     kind: str
     location: str
     active: bool
-    qualified: bool = Field(description="a passing polystyrene check within the set period")
-    last_passing_check_at: datetime | None = None
-    qualified_until: datetime | None = None
+    qualified: bool = Field(description="the most recent polystyrene check passed and was measured within the "
+                                        "set period")
+    last_passing_check_at: datetime | None = Field(
+        default=None, description="when the last passing check's film was measured (its recording time if the "
+                                  "file carried no time)")
+    qualified_until: datetime | None = Field(default=None, description="set only while the most recent check passed")
     status_text: str
+    last_check_passed: bool | None = Field(default=None, description="the most recent check (by measurement time); "
+                                                                     "null: no check recorded")
+    last_check_measured_at: datetime | None = Field(default=None, description="the film's measurement time from the "
+                                                                              "file; null: the file carried none")
+    last_check_recorded_at: datetime | None = Field(default=None, description="when the server recorded it (audit)")
 
 
 class InstrumentCheckOut(BaseModel):
@@ -320,15 +330,20 @@ class InstrumentCheckOut(BaseModel):
                               "result": {"passed": True, "checks": [{"name": "band near 1601 cm-1", "measured": 1601.1,
                                                                      "limit": "1600.2-1602.2", "outcome": "pass"}]},
                               "file_name": "ps-2026-12-02.jdx", "sha256": "77aa01...",
-                              "checked_at": "2026-12-02T07:30:00+00:00", "checked_by": 3})
+                              "checked_at": "2026-12-02T07:41:12+00:00", "checked_by": 3,
+                              "measured_at": "2026-12-02T07:30:00+00:00", "counts_from": "2026-12-02T07:30:00+00:00"})
     id: int
     instrument: str
     passed: bool
     result: dict[str, Any]
     file_name: str
     sha256: str
-    checked_at: datetime
+    checked_at: datetime = Field(description="when the server recorded the check (the audit time)")
     checked_by: int
+    measured_at: datetime | None = Field(default=None, description="when the film was measured, from the file "
+                                         "(JCAMP-DX ##LONGDATE or ##DATE/##TIME; no offset = UTC); null: not in the file")
+    counts_from: datetime | None = Field(default=None, description="what qualification counts from: measured_at, "
+                                                                   "else checked_at")
 
 
 # --- evaluation, library, audit ---------------------------------------------------------------------

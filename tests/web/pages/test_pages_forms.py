@@ -277,6 +277,31 @@ def test_instrument_check_without_a_file_records_nothing(people_site: Site) -> N
     assert _events(people_site) == before
 
 
+def test_instrument_check_times_are_shown_and_a_future_film_time_is_refused_in_place(people_site: Site) -> None:
+    from datetime import datetime, timedelta, timezone
+
+    import records_spectra as sp
+
+    _catalogue(people_site)
+    c = people_site.client("tech")
+    _, token = csrf(c, "/instruments/FTIR-1")
+    before = _events(people_site)
+    future = datetime.now(timezone.utc) + timedelta(hours=3)
+    film = sp.synthetic_polystyrene_jcamp(time_lines=(f"##LONGDATE={future:%Y/%m/%d %H:%M:%S}",))
+    r = c.post("/instruments/FTIR-1/checks", data={"csrf_token": token}, files={"file": ("ps.jdx", film, "text/plain")})
+    assert r.status_code == 422 and "future" in _field_error(r.text, "file")
+    assert "later than the server" in r.text and _events(people_site) == before
+    measured = datetime.now(timezone.utc) - timedelta(days=3)
+    film = sp.synthetic_polystyrene_jcamp(time_lines=(f"##LONGDATE={measured:%Y/%m/%d %H:%M:%S}",))
+    r = c.post("/instruments/FTIR-1/checks", data={"csrf_token": token}, files={"file": ("ps.jdx", film, "text/plain")},
+               follow_redirects=True)
+    assert r.status_code == 200 and f"film measured {measured:%Y-%m-%d %H:%M}" in r.text and "recorded" in r.text
+    page = c.get("/instruments").text
+    assert f"measured {measured:%Y-%m-%d %H:%M}" in page and "not qualified" in page
+    detail = c.get("/instruments/FTIR-1").text
+    assert "Film measured" in detail and "passed but was measured" in detail
+
+
 def test_audit_filter_with_a_bad_date_says_so(people_site: Site) -> None:
     c = people_site.client("qa")
     r = c.get("/audit?date_from=yesterday")
