@@ -19,6 +19,7 @@ from service.services.instruments import (
 from service.services.lots import get_lot, list_lots, receive_lot
 from service.services.measurements import (
     MeasurementRefused, UploadUnreadable, get_measurement, measurement_file, record_measurement,
+    record_measurement_with_state,
 )
 from service.services.specifications import (
     add_reference, approve_reference, approve_spec_version, create_spec_draft, effective_spec, get_spec_version,
@@ -33,6 +34,6 @@ __all__ = [
     "get_actor", "get_instrument", "get_lot", "get_material", "get_measurement", "get_spec_version",
     "instrument_checks", "invalidate_measurement", "list_instruments", "list_lots", "list_materials",
     "list_references", "list_suppliers", "list_users", "lot_record", "measurement_file", "receive_lot",
-    "record_instrument_check", "record_measurement", "reference_file", "register_instrument",
+    "record_instrument_check", "record_measurement", "record_measurement_with_state", "reference_file", "register_instrument",
     "reject_after_review", "signatures", "spec_versions", "supplier_approvals", "verify_audit",
 ]

@@ -167,7 +167,20 @@ def _evaluate(data: bytes, file_name: str, basis: _Basis) -> tuple[str, str, Any
 
 def record_measurement(engine: Engine, actor: Actor, *, lot_code: str, container: int, instrument_code: str,
                        data: bytes, file_name: str = "", check_days: float = DEFAULT_CHECK_DAYS) -> MeasurementView:
-    """Keep an uploaded spectrum, evaluate it and move the lot on; see the module docstring.
+    """Keep an uploaded spectrum, evaluate it and move the lot on; see the module docstring."""
+    view, _state = record_measurement_with_state(engine, actor, lot_code=lot_code, container=container,
+                                                 instrument_code=instrument_code, data=data, file_name=file_name,
+                                                 check_days=check_days)
+    return view
+
+
+def record_measurement_with_state(
+    engine: Engine, actor: Actor, *, lot_code: str, container: int, instrument_code: str, data: bytes,
+    file_name: str = "", check_days: float = DEFAULT_CHECK_DAYS,
+) -> tuple[MeasurementView, str]:
+    """`record_measurement`, also giving the lot's state as committed by the same transaction.
+
+    The upload answer reports the lot's state; taking it from the write saves a read afterwards.
 
     The file is read and evaluated before the write lock is taken (the slow part runs in
     parallel); the write transaction then re-checks everything and stores the record, the
@@ -240,6 +253,7 @@ def record_measurement(engine: Engine, actor: Actor, *, lot_code: str, container
             if lot.state == LotState.quarantine.value:
                 set_state(s, actor, lot, LotStep.first_measurement)
             settle_lot(s, actor, lot)
+        lot_state_after = str(lot.state)
         uow.commit()
         view = measurement_view(m, lot_code=lot.code, container=cont.number, instrument=inst.code,
                                 operator=actor.printed_name, evaluation=ev_row,
@@ -248,7 +262,7 @@ def record_measurement(engine: Engine, actor: Actor, *, lot_code: str, container
         raise UploadUnreadable(reason, measurement=view)
     if status == "refused":
         raise MeasurementRefused(reason, measurement=view)
-    return view
+    return view, lot_state_after
 
 
 def _retest_of(session: Session, lot: Lot, cont: LotContainer) -> int | None:

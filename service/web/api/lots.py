@@ -10,7 +10,6 @@ from fastapi.responses import JSONResponse
 from service import errors as e
 from service import services as uc
 from service.release.permissions import Action
-from service.services.api_requests import lot_state as current_lot_state
 from service.services.api_requests import operator_actor
 from service.services.notices import EVENTS as NOTICE_EVENTS
 from service.web.api.access import ApiRoute, acting_user
@@ -120,9 +119,10 @@ def upload_measurement(
 
     def act() -> Answer:
         try:
-            view = uc.record_measurement(engine, actor, lot_code=code, container=container,
-                                         instrument_code=instrument, data=upload.data, file_name=upload.file_name,
-                                         check_days=settings.instrument_check_days)
+            view, lot_state = uc.record_measurement_with_state(engine, actor, lot_code=code, container=container,
+                                                               instrument_code=instrument, data=upload.data,
+                                                               file_name=upload.file_name,
+                                                               check_days=settings.instrument_check_days)
         except uc.UploadUnreadable as exc:
             return _recorded_problem(request, exc, 422)
         except uc.MeasurementRefused as exc:
@@ -131,7 +131,6 @@ def upload_measurement(
             if any(f.path == "container" for f in exc.fields):
                 raise e.InvalidInput(exc.message, fields=exc.fields) from None
             raise
-        lot_state = current_lot_state(engine, code)
         dispatcher = getattr(request.app.state, "notices", None)
         if dispatcher is not None and lot_state in NOTICE_EVENTS:
             dispatcher.wake()  # a decision may be due to a client: send it now rather than at the next tick
