@@ -139,8 +139,7 @@ def _basis(session: Session, lot: Lot, *, load: bool) -> _Basis:
         f = repo.file_by_id(session, r.file_id) if r else None
         return (bytes(f.content) if f else b""), (r.file_name if r else "")
 
-    codes = {m.id: m.code for m in repo.list_materials(session)}
-    entries = [(r.id or 0, codes.get(r.material_id, "?"), r.sha256) for r in repo.references(session, None, "approved")]
+    entries = repo.library_entries(session)
     try:
         reference = evaluator.reference_spectrum(ref_row.sha256, lambda: load_ref(ref_row.id or 0))
         library = evaluator.library_for(entries, load_ref)

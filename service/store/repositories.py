@@ -39,6 +39,9 @@ _APPROVED_REFERENCE_PREP = (select(ReferenceSpectrum)
 _REFERENCES_BY_STATUS = (select(ReferenceSpectrum).where(ReferenceSpectrum.status == bindparam("status"))
                          .order_by(col(ReferenceSpectrum.id)))
 _MATERIALS = select(Material).order_by(col(Material.code))
+_LIBRARY_ENTRIES = (select(col(ReferenceSpectrum.id), col(Material.code), col(ReferenceSpectrum.sha256))
+                    .join(Material, col(Material.id) == col(ReferenceSpectrum.material_id))
+                    .where(ReferenceSpectrum.status == "approved").order_by(col(ReferenceSpectrum.id)))
 _MEASUREMENTS_FOR_CONTAINER = (select(Measurement).where(Measurement.container_id == bindparam("container_id"))
                                .order_by(col(Measurement.id)))
 _INVALIDATIONS_FOR = (select(MeasurementInvalidation)
@@ -137,6 +140,11 @@ def references(session: Session, material_id: int | None = None, status: str | N
     if status is not None:
         q = q.where(ReferenceSpectrum.status == status)
     return list(session.exec(q.order_by(col(ReferenceSpectrum.id))).all())
+
+
+def library_entries(session: Session) -> list[tuple[int, str, str]]:
+    """(reference id, material code, SHA-256) of every approved reference, in id order: one plain row each."""
+    return [(int(i), str(c), str(h)) for i, c, h in session.exec(_LIBRARY_ENTRIES).all()]
 
 
 def approved_reference(session: Session, material_id: int, preparation: str | None) -> ReferenceSpectrum | None:
