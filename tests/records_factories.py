@@ -42,3 +42,25 @@ def receive(engine: Engine, actor: Actor, **overrides: Any):  # type: ignore[no-
                                 retest_on=date(2028, 12, 1))
     args.update(overrides)
     return uc.receive_lot(engine, actor, **args)
+
+
+def seed_toluene_catalogue(engine: Engine, *, qa: Actor, tech: Actor) -> None:
+    """A qualified instrument FTIR-1, materials TOL-01/HEP-01/IPA-01 with approved real ATR references
+    (PlotFTIR five-material set, read in place from ../shared/data) and an approved toluene specification."""
+    import records_spectra
+
+    uc.register_instrument(engine, qa, code="FTIR-1", kind="FT-IR, diamond ATR", location="QC lab 2")
+    check = uc.record_instrument_check(engine, tech, instrument_code="FTIR-1",
+                                       data=records_spectra.synthetic_polystyrene_csv(), file_name="ps-film.csv")
+    assert check.passed, check.result
+    make_material(engine, qa, code="TOL-01", name="Toluene", supplier="Northwind Solvents")
+    for code, name, column in (("HEP-01", "Heptanes", "heptanes"), ("IPA-01", "Isopropanol", "isopropanol"),
+                               ("TOL-01", "Toluene", "toluene")):
+        if code != "TOL-01":
+            uc.create_material(engine, qa, code=code, name=name)
+        ref = uc.add_reference(engine, qa, material_code=code, preparation="atr-diamond",
+                               data=records_spectra.real_csv(column), file_name=f"{column}-reference.csv",
+                               instrument_code="FTIR-1", conditions="4 cm-1, 32 scans")
+        uc.approve_reference(engine, qa, reference_id=ref.id, reason="reference for identity testing")
+    spec = uc.create_spec_draft(engine, qa, material_code="TOL-01", document=records_spectra.TOLUENE_SPEC)
+    uc.approve_spec_version(engine, qa, spec_version_id=spec.id, reason="first version")

@@ -22,7 +22,7 @@ from service import services as uc
 from service.release import Actor
 from service.store.engine import make_engine
 from service.store.migrations import upgrade
-from records_factories import make_material, make_people
+from records_factories import make_people, seed_toluene_catalogue
 import records_spectra
 
 PG_URL = os.environ.get("BANDGATE_TEST_POSTGRES_URL", "")
@@ -57,22 +57,7 @@ class Lab:
 
 def seed_lab(engine: Engine) -> dict[str, Actor]:
     people = make_people(engine)
-    qa = people["qa"]
-    uc.register_instrument(engine, qa, code="FTIR-1", kind="FT-IR, diamond ATR", location="QC lab 2")
-    check = uc.record_instrument_check(engine, people["tech"], instrument_code="FTIR-1",
-                                       data=records_spectra.synthetic_polystyrene_csv(), file_name="ps-film.csv")
-    assert check.passed, check.result
-    make_material(engine, qa, code="TOL-01", name="Toluene", supplier="Northwind Solvents")
-    for code, name, column in (("HEP-01", "Heptanes", "heptanes"), ("IPA-01", "Isopropanol", "isopropanol"),
-                               ("TOL-01", "Toluene", "toluene")):
-        if code != "TOL-01":
-            uc.create_material(engine, qa, code=code, name=name)
-        ref = uc.add_reference(engine, qa, material_code=code, preparation="atr-diamond",
-                               data=records_spectra.real_csv(column), file_name=f"{column}-reference.csv",
-                               instrument_code="FTIR-1", conditions="4 cm-1, 32 scans")
-        uc.approve_reference(engine, qa, reference_id=ref.id, reason="reference for identity testing")
-    spec = uc.create_spec_draft(engine, qa, material_code="TOL-01", document=records_spectra.TOLUENE_SPEC)
-    uc.approve_spec_version(engine, qa, spec_version_id=spec.id, reason="first version")
+    seed_toluene_catalogue(engine, qa=people["qa"], tech=people["tech"])
     return people
 
 

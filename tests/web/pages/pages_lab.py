@@ -13,7 +13,7 @@ from dataclasses import dataclass
 from sqlalchemy.engine import Engine
 
 import records_spectra
-from records_factories import make_material
+from records_factories import seed_toluene_catalogue
 from service import services as uc
 from service.services import security_accounts as accounts
 
@@ -45,21 +45,7 @@ def seed_lab(engine: Engine) -> None:
     seed_people(engine)
     qa = uc.get_actor(engine, PEOPLE["qa"].username)
     tech = uc.get_actor(engine, PEOPLE["tech"].username)
-    uc.register_instrument(engine, qa, code="FTIR-1", kind="FT-IR, diamond ATR", location="QC lab 2")
-    check = uc.record_instrument_check(engine, tech, instrument_code="FTIR-1",
-                                       data=records_spectra.synthetic_polystyrene_csv(), file_name="ps-film.csv")
-    assert check.passed, check.result
-    make_material(engine, qa, code="TOL-01", name="Toluene", supplier="Northwind Solvents")
-    for code, name, column in (("HEP-01", "Heptanes", "heptanes"), ("IPA-01", "Isopropanol", "isopropanol"),
-                               ("TOL-01", "Toluene", "toluene")):
-        if code != "TOL-01":
-            uc.create_material(engine, qa, code=code, name=name)
-        ref = uc.add_reference(engine, qa, material_code=code, preparation="atr-diamond",
-                               data=records_spectra.real_csv(column), file_name=f"{column}-reference.csv",
-                               instrument_code="FTIR-1", conditions="4 cm-1, 32 scans")
-        uc.approve_reference(engine, qa, reference_id=ref.id, reason="reference for identity testing")
-    spec = uc.create_spec_draft(engine, qa, material_code="TOL-01", document=records_spectra.TOLUENE_SPEC)
-    uc.approve_spec_version(engine, qa, spec_version_id=spec.id, reason="first version")
+    seed_toluene_catalogue(engine, qa=qa, tech=tech)
 
 
 def passing_upload() -> bytes:
