@@ -64,20 +64,10 @@ def approve_spec_version(engine: Engine, actor: Actor, *, spec_version_id: int, 
             raise Conflict(f"specification version {s.version} is {s.status}; only a draft can be approved")
         m = repo.material_by_id(uow.session, s.material_id)
         previous = repo.approved_spec(uow.session, s.material_id)
-        if previous is not None:
-            previous.status = SUPERSEDED
-            uow.session.add(previous)
-            sh.audit(uow.session, actor, "specification.superseded", "specification_version", previous.id,
-                     old={"status": APPROVED}, new={"status": SUPERSEDED},
-                     reason=f"superseded by version {s.version}")
-        sig = sh.sign(uow.session, actor, record_type="specification_version", record_id=s.id,  # type: ignore[arg-type]
-                      meaning=Meaning.approved, reason=reason)
-        s.status, s.approved_at, s.approved_by = APPROVED, sig.signed_at, actor.user_id
-        uow.session.add(s)
-        sh.audit(uow.session, actor, "specification.approved", "specification_version", s.id,
-                 old={"status": DRAFT}, new={"status": APPROVED, "signature_id": sig.id,
-                                             "material": m.code if m else None, "version": s.version},
-                 reason=reason)
+        _approve_draft(uow.session, actor, s, record_type="specification_version", action="specification",
+                       superseded=[previous] if previous is not None else [],
+                       superseded_because=f"superseded by version {s.version}", reason=reason,
+                       also_recorded={"material": m.code if m else None, "version": s.version})
         uow.commit()
         return _spec_view(uow.session, s)
 
@@ -147,19 +137,11 @@ def approve_reference(engine: Engine, actor: Actor, *, reference_id: int, reason
             raise NotFound(f"no reference spectrum with id {reference_id}")
         if r.status != DRAFT:
             raise Conflict(f"reference {reference_id} is {r.status}; only a draft can be approved")
-        for old in repo.references(uow.session, r.material_id, APPROVED):
-            if old.preparation == r.preparation:
-                old.status = SUPERSEDED
-                uow.session.add(old)
-                sh.audit(uow.session, actor, "reference.superseded", "reference_spectrum", old.id,
-                         old={"status": APPROVED}, new={"status": SUPERSEDED},
-                         reason=f"superseded by reference {r.id}")
-        sig = sh.sign(uow.session, actor, record_type="reference_spectrum", record_id=r.id,  # type: ignore[arg-type]
-                      meaning=Meaning.approved, reason=reason)
-        r.status, r.approved_at, r.approved_by = APPROVED, sig.signed_at, actor.user_id
-        uow.session.add(r)
-        sh.audit(uow.session, actor, "reference.approved", "reference_spectrum", r.id,
-                 old={"status": DRAFT}, new={"status": APPROVED, "signature_id": sig.id}, reason=reason)
+        same_preparation = [old for old in repo.references(uow.session, r.material_id, APPROVED)
+                            if old.preparation == r.preparation]
+        _approve_draft(uow.session, actor, r, record_type="reference_spectrum", action="reference",
+                       superseded=same_preparation, superseded_because=f"superseded by reference {r.id}",
+                       reason=reason)
         uow.commit()
         return _ref_view(uow.session, r)
 
@@ -183,3 +165,21 @@ def reference_file(engine: Engine, reference_id: int) -> tuple[ReferenceView, by
 def signatures(engine: Engine, record_type: str, record_id: int) -> list[SignatureView]:
     with UnitOfWork(engine, write=False) as uow:
         return [sh.signature_view(s) for s in repo.signatures_for(uow.session, record_type, [record_id])]
+
+
+def _approve_draft(session: Session, actor: Actor, record: SpecificationVersion | ReferenceSpectrum, *,
+                   record_type: str, action: str, superseded: list[Any], superseded_because: str,
+                   reason: str, also_recorded: dict[str, Any] | None = None) -> None:
+    """Supersede the versions it replaces, sign the approval and mark the draft approved, each audited."""
+    for old in superseded:
+        old.status = SUPERSEDED
+        session.add(old)
+        sh.audit(session, actor, f"{action}.superseded", record_type, old.id,
+                 old={"status": APPROVED}, new={"status": SUPERSEDED}, reason=superseded_because)
+    sig = sh.sign(session, actor, record_type=record_type, record_id=record.id,  # type: ignore[arg-type]
+                  meaning=Meaning.approved, reason=reason)
+    record.status, record.approved_at, record.approved_by = APPROVED, sig.signed_at, actor.user_id
+    session.add(record)
+    sh.audit(session, actor, f"{action}.approved", record_type, record.id,
+             old={"status": DRAFT}, new={"status": APPROVED, "signature_id": sig.id, **(also_recorded or {})},
+             reason=reason)
