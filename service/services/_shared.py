@@ -6,6 +6,7 @@ import json
 from datetime import datetime
 from typing import Any
 
+from sqlalchemy.engine import Connection
 from sqlmodel import Session
 
 from service.errors import InvalidInput, NotFound, FieldProblem
@@ -45,17 +46,25 @@ def supplier(session: Session, name: str) -> Supplier:
     return row
 
 
+def no_instrument(code: str) -> NotFound:
+    return NotFound(f"no instrument {code!r}; register it first or check the identifier")
+
+
+def no_lot(code: str) -> NotFound:
+    return NotFound(f"no lot with code {code!r}")
+
+
 def instrument(session: Session, code: str) -> Instrument:
     row = repo.instrument_by_code(session, code)
     if row is None:
-        raise NotFound(f"no instrument {code!r}; register it first or check the identifier")
+        raise no_instrument(code)
     return row
 
 
 def lot(session: Session, code: str) -> Lot:
     row = repo.lot_by_code(session, code)
     if row is None:
-        raise NotFound(f"no lot with code {code!r}")
+        raise no_lot(code)
     return row
 
 
@@ -66,7 +75,7 @@ def spec(session: Session, spec_id: int) -> SpecificationVersion:
     return row
 
 
-def audit(session: Session, actor: Actor, action: str, record_type: str, record_id: Any, *,
+def audit(session: Session | Connection, actor: Actor, action: str, record_type: str, record_id: Any, *,
           old: dict[str, Any] | None = None, new: dict[str, Any] | None = None, reason: str = "") -> None:
     append_event(session, actor=actor, action=action, record_type=record_type, record_id=record_id,
                  old=old, new=new, reason=reason)

@@ -13,14 +13,15 @@ from __future__ import annotations
 import json
 from datetime import datetime, timedelta
 
-from sqlalchemy.engine import Engine
+from sqlalchemy.engine import Connection, Engine
 from sqlmodel import Session
 
 from service.errors import BandgateError, Conflict, FieldProblem, InvalidInput
 from service.release.actor import Actor
 from service.release.digests import canonical_json
-from service.release.qualification import CheckFacts, check_measurement_time, standing
+from service.release.qualification import CheckFacts, Standing, check_measurement_time, standing
 from service.store import repositories as repo
+from service.store import upload_records
 from service.store.tables import Instrument, InstrumentCheck, utc_now
 from service.store.unit_of_work import UnitOfWork
 from service.services import _shared as sh
@@ -30,7 +31,7 @@ from service.services.views import InstrumentCheckView, InstrumentView, utc
 DEFAULT_CHECK_DAYS = 1.0
 
 
-def _facts(c: InstrumentCheck | None) -> CheckFacts | None:
+def _facts(c: InstrumentCheck | upload_records.CheckRow | None) -> CheckFacts | None:
     if c is None:
         return None
     return CheckFacts(passed=c.passed, recorded_at=utc(c.checked_at) or c.checked_at,  # type: ignore[arg-type]
@@ -44,16 +45,22 @@ def qualification(session: Session, inst: Instrument, *, check_days: float,
     The rule is ``service.release.qualification.standing``: the most recent check (by the time its
     film was measured) must have passed and be younger than ``check_days``.
     """
-    latest = repo.latest_check(session, inst.id)  # type: ignore[arg-type]
-    facts = _facts(latest)
-    st = standing(instrument=inst.code, active=inst.active, latest=facts, at=at or utc_now(),
-                  period=timedelta(days=check_days))
+    st, facts = instrument_standing(session.connection(), instrument_id=inst.id, code=inst.code,  # type: ignore[arg-type]
+                                    active=inst.active, check_days=check_days, at=at)
     if facts is not None and facts.passed:
         last_pass: datetime | None = facts.counts_from
     else:
         passing = _facts(repo.last_passing_check(session, inst.id))  # type: ignore[arg-type]
         last_pass = passing.counts_from if passing else None
     return st.qualified, last_pass, st.qualified_until, st.text
+
+
+def instrument_standing(conn: Connection, *, instrument_id: int, code: str, active: bool, check_days: float,
+                        at: datetime | None = None) -> tuple[Standing, CheckFacts | None]:
+    """The instrument's standing at ``at`` (now by default), and the facts of its most recent check."""
+    facts = _facts(upload_records.latest_check(conn, instrument_id))
+    return standing(instrument=code, active=active, latest=facts, at=at or utc_now(),
+                    period=timedelta(days=check_days)), facts
 
 
 def _view(session: Session, inst: Instrument, check_days: float) -> InstrumentView:

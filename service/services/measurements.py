@@ -23,7 +23,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Any
 
-from sqlalchemy.engine import Engine
+from sqlalchemy.engine import Connection, Engine
 from sqlmodel import Session
 
 from service import __version__
@@ -33,12 +33,14 @@ from service.release.digests import canonical_json, sha256_hex
 from service.release.lot_states import (
     ContainerOutcome, LotState, LotStep, container_outcome, next_state, outcome_from_counts,
 )
+from service.release.qualification import Standing
 from service.store import repositories as repo
-from service.store.tables import Evaluation, Instrument, Lot, LotContainer, Measurement, utc_now
+from service.store import upload_records as rows
+from service.store.tables import Evaluation, Lot, Measurement, utc_now
 from service.store.unit_of_work import UnitOfWork
 from service.services import _shared as sh
 from service.services import evaluator
-from service.services.instruments import DEFAULT_CHECK_DAYS, qualification
+from service.services.instruments import DEFAULT_CHECK_DAYS, instrument_standing
 from service.services.lots import evidence, measurement_view
 from service.services.views import MeasurementView
 
@@ -67,14 +69,19 @@ class MeasurementRefused(Conflict):
         self.measurement = measurement
 
 
+def _state_changed(target: Session | Connection, actor: Actor, lot_id: int | None, old: str, new: str,
+                   step: LotStep, reason: str) -> None:
+    sh.audit(target, actor, "lot.state_changed", "lot", lot_id, old={"state": old},
+             new={"state": new, "step": step.value}, reason=reason or step.value.replace("_", " "))
+
+
 def set_state(session: Session, actor: Actor, lot: Lot, step: LotStep, *, reason: str = "") -> None:
     """Take one step of the lot state machine, with its audit event."""
     old = lot.state
     lot.state = next_state(LotState(old), step).value
     lot.state_changed_at = utc_now()
     session.add(lot)
-    sh.audit(session, actor, "lot.state_changed", "lot", lot.id, old={"state": old},
-             new={"state": lot.state, "step": step.value}, reason=reason or step.value.replace("_", " "))
+    _state_changed(session, actor, lot.id, old, lot.state, step, reason)
 
 
 def settle_lot(session: Session, actor: Actor, lot: Lot) -> None:
@@ -82,26 +89,68 @@ def settle_lot(session: Session, actor: Actor, lot: Lot) -> None:
     if lot.state != LotState.testing.value:
         return
     session.flush()
-    sampled, with_result, failed = repo.lot_progress(session, lot.id)  # type: ignore[arg-type]
-    step = outcome_from_counts(sampled=sampled, with_result=with_result, failed=failed)
+    step = _settling_step(session.connection(), lot.id)  # type: ignore[arg-type]
     if step is not None:
         set_state(session, actor, lot, step)
 
 
-def _refusal(session: Session, lot: Lot, container: LotContainer, inst_ok: tuple[bool, str]) -> str | None:
+def _settling_step(conn: Connection, lot_id: int) -> LotStep | None:
+    sampled, with_result, failed = rows.lot_progress(conn, lot_id)
+    return outcome_from_counts(sampled=sampled, with_result=with_result, failed=failed)
+
+
+def _step_lot(conn: Connection, actor: Actor, lot_id: int, old: str, step: LotStep) -> str:
+    """`set_state` on the upload path's plain rows: a Core UPDATE and the same audit event."""
+    new = next_state(LotState(old), step).value
+    rows.set_lot_state(conn, lot_id, new, utc_now())
+    _state_changed(conn, actor, lot_id, old, new, step, "")
+    return new
+
+
+def _target(conn: Connection, *, lot_code: str, container: int, instrument_code: str) -> rows.UploadTarget:
+    """The lot, container and instrument an upload names; unknown names and closed lots are refused."""
+    t = rows.upload_target(conn, lot_code=lot_code, container=container, instrument_code=instrument_code)
+    if t is None:
+        raise sh.no_lot(lot_code)
+    lot = t.lot
+    if LotState(lot.state).is_final:
+        raise Conflict(f"lot {lot.code} is closed ({LotState(lot.state).label}); nothing more can be "
+                       "recorded against it, and this upload was not stored")
+    if t.container is None:
+        raise NotFound(f"lot {lot.code} has containers 1 to {lot.containers_received}; there is no "
+                       f"container {container}", fields=[FieldProblem("container", "pick a listed container")])
+    if t.instrument is None:
+        raise sh.no_instrument(instrument_code)
+    return t
+
+
+def _current_verdicts(history: list[rows.HistoryRow]) -> list[str]:
+    """Verdicts of the container's current (accepted, evaluated, not invalidated) measurements."""
+    return [h.verdict for h in history if h.status == "accepted" and not h.invalidated and h.verdict is not None]
+
+
+def _refusal(lot: rows.LotRow, container: rows.ContainerRow, history: list[rows.HistoryRow],
+             instrument: Standing) -> str | None:
     if not LotState(lot.state).accepts_measurements:
         return (f"lot {lot.code} is '{LotState(lot.state).label}' and takes no more measurements"
                 + ("; a reviewer must first invalidate the failing measurement" if lot.state == "awaiting_review" else ""))
     if not container.selected:
         return (f"container {container.number} is not in the sampling plan of lot {lot.code}; "
                 "measure one of the containers the plan selected")
-    outcome = container_outcome(repo.container_verdicts(session, container.id))  # type: ignore[arg-type]
+    outcome = container_outcome(_current_verdicts(history))
     if outcome is not ContainerOutcome.untested:
         return (f"container {container.number} already has a result ({outcome.value}); a retest needs a reviewer to "
                 "invalidate that measurement with an assignable cause first")
-    if not inst_ok[0]:
-        return inst_ok[1]
+    if not instrument.qualified:
+        return instrument.text
     return None
+
+
+def _retest_of(history: list[rows.HistoryRow]) -> int | None:
+    """The invalidated measurement of this container that a new upload retests, if any."""
+    retested = {h.retest_of_id for h in history if h.retest_of_id is not None and h.status == "accepted"}
+    open_ = [h.id for h in history if h.invalidated and h.id not in retested]
+    return max(open_) if open_ else None
 
 
 @dataclass(frozen=True)
@@ -118,16 +167,15 @@ class _Basis:
     missing: str | None
 
 
-def _basis(session: Session, lot: Lot, *, load: bool) -> _Basis:
-    spec_row = repo.approved_spec(session, lot.material_id)
+def _basis(conn: Connection, material_id: int, *, load: bool) -> _Basis:
+    spec_row = rows.approved_spec(conn, material_id)
     if spec_row is None:
         return _Basis(None, None, None, None, None, None, None,
                       "the material has no approved specification; the quality unit must approve one first")
     doc = sh.loads(spec_row.document)
     prep = doc.get("preparation")
     prep = prep if isinstance(prep, str) else (prep or {}).get("method")
-    ref_row = repo.approved_reference(session, lot.material_id, prep) or repo.approved_reference(
-        session, lot.material_id, None)
+    ref_row = rows.approved_reference(conn, material_id, prep)
     if ref_row is None:
         return _Basis(spec_row.id, spec_row.version, doc, None, None, None, None,
                       "the material has no approved reference spectrum; the quality unit must approve one first")
@@ -135,13 +183,11 @@ def _basis(session: Session, lot: Lot, *, load: bool) -> _Basis:
         return _Basis(spec_row.id, spec_row.version, doc, ref_row.id, ref_row.preparation, None, None, None)
 
     def load_ref(ref_id: int) -> tuple[bytes, str]:
-        r = repo.reference_by_id(session, ref_id)
-        f = repo.file_by_id(session, r.file_id) if r else None
-        return (bytes(f.content) if f else b""), (r.file_name if r else "")
+        return rows.reference_file(conn, ref_id)
 
-    entries = repo.library_entries(session)
+    entries = rows.library_entries(conn)
     try:
-        reference = evaluator.reference_spectrum(ref_row.sha256, lambda: load_ref(ref_row.id or 0))
+        reference = evaluator.reference_spectrum(ref_row.sha256, lambda: load_ref(ref_row.id))
         library = evaluator.library_for(entries, load_ref)
     except BandgateError as exc:
         return _Basis(spec_row.id, spec_row.version, doc, ref_row.id, ref_row.preparation, None, None,
@@ -192,67 +238,65 @@ def record_measurement_with_state(
     data = bytes(data)
     file_name = (file_name or "").replace("\x00", "")[:MAX_FILE_NAME]
 
-    def resolve(s: Session, *, judge: bool = True) -> tuple[Lot, LotContainer, Instrument, str | None]:
-        lot = sh.lot(s, lot_code)
-        if LotState(lot.state).is_final:
-            raise Conflict(f"lot {lot.code} is closed ({LotState(lot.state).label}); nothing more can be "
-                           "recorded against it, and this upload was not stored")
-        cont = repo.container_by_number(s, lot.id, container)  # type: ignore[arg-type]
-        if cont is None:
-            raise NotFound(f"lot {lot.code} has containers 1 to {lot.containers_received}; there is no "
-                           f"container {container}", fields=[FieldProblem("container", "pick a listed container")])
-        inst = sh.instrument(s, instrument_code)
-        if not judge:  # the unlocked look-up only fails early on unknown names; the write re-judges everything
-            return lot, cont, inst, None
-        ok, _last, _until, text = qualification(s, inst, check_days=check_days)
-        return lot, cont, inst, _refusal(s, lot, cont, (ok, text))
-
     with UnitOfWork(engine, write=False) as uow:  # no lock: look up what the evaluation rests on
-        lot, _cont, _inst, _refused = resolve(uow.session, judge=False)  # unknown names, closed lots fail early
-        basis = _basis(uow.session, lot, load=True)
+        conn = uow.connection
+        target = _target(conn, lot_code=lot_code, container=container, instrument_code=instrument_code)
+        basis = _basis(conn, target.lot.material_id, load=True)
     status, reason, evaluation = "refused", basis.missing or "", None
     if basis.missing is None:
         status, reason, evaluation = _evaluate(data, file_name, basis)
 
-    with UnitOfWork(engine) as uow:
-        s = uow.session
-        lot, cont, inst, refusal = resolve(s)
-        now_basis = _basis(s, lot, load=False)
+    with UnitOfWork(engine) as uow:  # the write lock: judge again on the latest state, then store
+        conn = uow.connection
+        target = _target(conn, lot_code=lot_code, container=container, instrument_code=instrument_code)
+        lot, cont, inst = target.lot, target.container, target.instrument
+        assert cont is not None and inst is not None  # _target refuses unknown names
+        history = rows.container_history(conn, cont.id)
+        standing, _facts = instrument_standing(conn, instrument_id=inst.id, code=inst.code, active=inst.active,
+                                               check_days=check_days)
+        refusal = _refusal(lot, cont, history, standing)
+        now_basis = _basis(conn, lot.material_id, load=False)
         if refusal is None and now_basis.missing is not None:
             refusal = now_basis.missing
         elif refusal is None and (now_basis.spec_id, now_basis.ref_id) != (basis.spec_id, basis.ref_id):
             refusal = "the approved specification or reference changed during the upload; upload the file again"
         if refusal is not None:
             status, reason, evaluation = "refused", refusal, None
-        stored = repo.store_file(s, data)
-        retest_of = _retest_of(s, lot, cont)
-        m = Measurement(lot_id=lot.id, container_id=cont.id, instrument_id=inst.id, operator_id=actor.user_id,
-                        file_id=stored.id, sha256=stored.sha256, size=stored.size, file_name=file_name,
-                        received_at=utc_now(), status=status, reason=reason, retest_of_id=retest_of)
-        repo.add(s, m)
-        sh.audit(s, actor, "measurement.recorded", "measurement", m.id, new={
+        received = utc_now()
+        sha256 = sha256_hex(data)
+        retest_of = _retest_of(history)
+        values: dict[str, Any] = {
+            "lot_id": lot.id, "container_id": cont.id, "instrument_id": inst.id, "operator_id": actor.user_id,
+            "file_id": rows.insert_file(conn, data=data, sha256=sha256, created_at=received),
+            "sha256": sha256, "size": len(data), "file_name": file_name, "received_at": received,
+            "status": status, "reason": reason, "retest_of_id": retest_of}
+        m = Measurement(id=rows.insert_measurement(conn, values), **values)
+        sh.audit(conn, actor, "measurement.recorded", "measurement", m.id, new={
             "lot": lot.code, "container": cont.number, "instrument": inst.code, "sha256": m.sha256, "size": m.size,
             "file_name": m.file_name, "status": status, "reason": reason, "retest_of_id": retest_of})
         ev_row = None
+        lot_state_after = lot.state
         if evaluation is not None:
             document = canonical_json(evaluation.as_dict())
-            ev_row = Evaluation(measurement_id=m.id, verdict=str(evaluation.verdict), document=document,
-                                spec_version_id=basis.spec_id, reference_id=basis.ref_id,
-                                software_version=__version__, created_at=utc_now())
-            repo.add(s, ev_row)
-            sh.audit(s, actor, "evaluation.recorded", "evaluation", ev_row.id, new={
+            ev_values: dict[str, Any] = {
+                "measurement_id": m.id, "verdict": str(evaluation.verdict), "document": document,
+                "spec_version_id": basis.spec_id, "reference_id": basis.ref_id,
+                "software_version": __version__, "created_at": utc_now()}
+            ev_row = Evaluation(id=rows.insert_evaluation(conn, ev_values), **ev_values)
+            sh.audit(conn, actor, "evaluation.recorded", "evaluation", ev_row.id, new={
                 "measurement_id": m.id, "verdict": ev_row.verdict, "spec_version_id": basis.spec_id,
                 "spec_version": basis.spec_version, "reference_id": basis.ref_id,
                 "software_version": __version__, "document_sha256": sha256_hex(document)})
             if not cont.sampled:
-                cont.sampled, cont.sampled_at = True, utc_now()
-                s.add(cont)
-                sh.audit(s, actor, "container.sampled", "lot_container", cont.id, old={"sampled": False},
+                rows.mark_sampled(conn, cont.id, utc_now())
+                sh.audit(conn, actor, "container.sampled", "lot_container", cont.id, old={"sampled": False},
                          new={"lot": lot.code, "container": cont.number, "sampled": True})
-            if lot.state == LotState.quarantine.value:
-                set_state(s, actor, lot, LotStep.first_measurement)
-            settle_lot(s, actor, lot)
-        lot_state_after = str(lot.state)
+            if lot_state_after == LotState.quarantine.value:
+                lot_state_after = _step_lot(conn, actor, lot.id, lot_state_after, LotStep.first_measurement)
+            if lot_state_after == LotState.testing.value:
+                step = _settling_step(conn, lot.id)
+                if step is not None:
+                    lot_state_after = _step_lot(conn, actor, lot.id, lot_state_after, step)
         uow.commit()
         view = measurement_view(m, lot_code=lot.code, container=cont.number, instrument=inst.code,
                                 operator=actor.printed_name, evaluation=ev_row,
@@ -262,15 +306,6 @@ def record_measurement_with_state(
     if status == "refused":
         raise MeasurementRefused(reason, measurement=view)
     return view, lot_state_after
-
-
-def _retest_of(session: Session, lot: Lot, cont: LotContainer) -> int | None:
-    """The invalidated measurement of this container that a new upload retests, if any."""
-    ms = repo.measurements_for_container(session, cont.id)  # type: ignore[arg-type]
-    invs = repo.invalidations_for(session, [m.id for m in ms if m.id is not None])
-    retested = {m.retest_of_id for m in ms if m.retest_of_id is not None and m.status == "accepted"}
-    open_ = [mid for mid in invs if mid not in retested]
-    return max(open_) if open_ else None
 
 
 def get_measurement(engine: Engine, measurement_id: int) -> MeasurementView:

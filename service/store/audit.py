@@ -15,6 +15,7 @@ from datetime import datetime, timezone
 from typing import Any
 
 from sqlalchemy import insert
+from sqlalchemy.engine import Connection
 from sqlmodel import Session, col, select
 
 from service.release.actor import Actor
@@ -24,23 +25,29 @@ from service.store.tables import AuditEvent, utc_now
 SYSTEM_ACTOR = Actor(user_id=0, username="system", printed_name="Bandgate (system)")
 
 
+def _fields(*, seq: int, occurred_at: datetime, user_id: int | None, username: str, action: str,
+            record_type: str, record_id: str, old_values: str, new_values: str, reason: str) -> dict[str, Any]:
+    if occurred_at.tzinfo is None:  # SQLite gives naive datetimes back; they were written in UTC
+        occurred_at = occurred_at.replace(tzinfo=timezone.utc)
+    return {
+        "seq": seq,
+        "occurred_at": occurred_at.astimezone(timezone.utc).isoformat(timespec="microseconds"),
+        "user_id": user_id,
+        "username": username,
+        "action": action,
+        "record_type": record_type,
+        "record_id": record_id,
+        "old_values": old_values,
+        "new_values": new_values,
+        "reason": reason,
+    }
+
+
 def event_fields(ev: AuditEvent) -> dict[str, Any]:
     """The fields an event's hash covers, as they are stored."""
-    occurred = ev.occurred_at
-    if occurred.tzinfo is None:  # SQLite gives naive datetimes back; they were written in UTC
-        occurred = occurred.replace(tzinfo=timezone.utc)
-    return {
-        "seq": ev.seq,
-        "occurred_at": occurred.astimezone(timezone.utc).isoformat(timespec="microseconds"),
-        "user_id": ev.user_id,
-        "username": ev.username,
-        "action": ev.action,
-        "record_type": ev.record_type,
-        "record_id": ev.record_id,
-        "old_values": ev.old_values,
-        "new_values": ev.new_values,
-        "reason": ev.reason,
-    }
+    return _fields(seq=ev.seq, occurred_at=ev.occurred_at, user_id=ev.user_id, username=ev.username,
+                   action=ev.action, record_type=ev.record_type, record_id=ev.record_id,
+                   old_values=ev.old_values, new_values=ev.new_values, reason=ev.reason)
 
 
 def last_event(session: Session) -> AuditEvent | None:
@@ -48,12 +55,14 @@ def last_event(session: Session) -> AuditEvent | None:
 
 
 # Built once: the head of the chain and the insert are on every write path.
-_HEAD = select(AuditEvent.seq, AuditEvent.hash).order_by(col(AuditEvent.seq).desc()).limit(1)
-_INSERT = insert(AuditEvent)
+_TABLE = AuditEvent.__table__
+_HEAD = select(_TABLE.c.seq, _TABLE.c.hash).order_by(_TABLE.c.seq.desc()).limit(1)
+_INSERT = insert(_TABLE)
+HEAD_KEY = "bandgate_audit_head"  # Connection.info: (seq, hash) of the last event this transaction appended
 
 
 def append_event(
-    session: Session,
+    target: Session | Connection,
     *,
     actor: Actor,
     action: str,
@@ -63,38 +72,39 @@ def append_event(
     new: dict[str, Any] | None = None,
     reason: str = "",
     at: datetime | None = None,
-) -> AuditEvent:
-    """Append one event to the chain. Call only inside a writing UnitOfWork (it holds the lock)."""
-    head = session.info.get("audit_head")  # (seq, hash) of the last event this transaction appended
+) -> None:
+    """Append one event to the chain. Call only inside a writing UnitOfWork (it holds the lock).
+
+    ``target`` is the unit of work's session or its connection (the same transaction either way).
+    The event is a plain INSERT: no ORM row object, no flush, for a row that is never updated.
+    The head of the chain is read once per transaction and then carried on the connection; the
+    unit of work forgets it when the transaction ends.
+    """
+    conn = target.connection() if isinstance(target, Session) else target
+    head = conn.info.get(HEAD_KEY)
     if head is None:
-        row = session.exec(_HEAD).first()
+        row = conn.execute(_HEAD).first()
         head = (int(row[0]), str(row[1])) if row else (0, GENESIS_HASH)
-    ev = AuditEvent(
-        seq=head[0] + 1,
-        occurred_at=(at or utc_now()).astimezone(timezone.utc),
-        user_id=actor.user_id or None,
-        username=actor.username,
-        action=action,
-        record_type=record_type,
-        record_id=str(record_id),
-        old_values=canonical_json(old or {}),
-        new_values=canonical_json(new or {}),
-        reason=reason,
-        prev_hash=head[1],
-        hash="",
-    )
-    ev.hash = event_hash(prev_hash=ev.prev_hash, fields=event_fields(ev))
-    # A plain INSERT (no ORM unit-of-work flush for a row that is never updated); the event is
-    # returned detached, with its id.
-    values = {c: getattr(ev, c) for c in _COLUMNS}
-    result = session.connection().execute(_INSERT, values)
-    ev.id = int(result.inserted_primary_key[0])
-    session.info["audit_head"] = (ev.seq, ev.hash)
-    return ev
+    values: dict[str, Any] = {
+        "seq": head[0] + 1,
+        "occurred_at": (at or utc_now()).astimezone(timezone.utc),
+        "user_id": actor.user_id or None,
+        "username": actor.username,
+        "action": action,
+        "record_type": record_type,
+        "record_id": str(record_id),
+        "old_values": canonical_json(old or {}),
+        "new_values": canonical_json(new or {}),
+        "reason": reason,
+    }
+    values["prev_hash"] = head[1]
+    values["hash"] = event_hash(prev_hash=head[1], fields=_fields(**{k: values[k] for k in _HASHED}))
+    conn.execute(_INSERT, values)
+    conn.info[HEAD_KEY] = (values["seq"], values["hash"])
 
 
-_COLUMNS = ("seq", "occurred_at", "user_id", "username", "action", "record_type", "record_id", "old_values",
-            "new_values", "reason", "prev_hash", "hash")
+_HASHED = ("seq", "occurred_at", "user_id", "username", "action", "record_type", "record_id", "old_values",
+           "new_values", "reason")
 
 
 @dataclass(frozen=True, kw_only=True)

@@ -9,6 +9,7 @@ from sqlalchemy import bindparam, func
 from sqlmodel import Session, col, select
 
 from service.release.digests import sha256_hex
+from service.store import upload_records
 from service.store.tables import (
     Evaluation, Instrument, InstrumentCheck, Lot, LotContainer, LotDecision, Material, Measurement,
     MeasurementInvalidation, ReferenceSpectrum, Signature, SpecificationVersion, StoredFile, Supplier,
@@ -39,9 +40,6 @@ _APPROVED_REFERENCE_PREP = (select(ReferenceSpectrum)
 _REFERENCES_BY_STATUS = (select(ReferenceSpectrum).where(ReferenceSpectrum.status == bindparam("status"))
                          .order_by(col(ReferenceSpectrum.id)))
 _MATERIALS = select(Material).order_by(col(Material.code))
-_LIBRARY_ENTRIES = (select(col(ReferenceSpectrum.id), col(Material.code), col(ReferenceSpectrum.sha256))
-                    .join(Material, col(Material.id) == col(ReferenceSpectrum.material_id))
-                    .where(ReferenceSpectrum.status == "approved").order_by(col(ReferenceSpectrum.id)))
 _MEASUREMENTS_FOR_CONTAINER = (select(Measurement).where(Measurement.container_id == bindparam("container_id"))
                                .order_by(col(Measurement.id)))
 _INVALIDATIONS_FOR = (select(MeasurementInvalidation)
@@ -144,7 +142,7 @@ def references(session: Session, material_id: int | None = None, status: str | N
 
 def library_entries(session: Session) -> list[tuple[int, str, str]]:
     """(reference id, material code, SHA-256) of every approved reference, in id order: one plain row each."""
-    return [(int(i), str(c), str(h)) for i, c, h in session.exec(_LIBRARY_ENTRIES).all()]
+    return upload_records.library_entries(session.connection())
 
 
 def approved_reference(session: Session, material_id: int, preparation: str | None) -> ReferenceSpectrum | None:
@@ -307,15 +305,7 @@ def container_verdicts(session: Session, container_id: int) -> list[str]:
 
 def lot_progress(session: Session, lot_id: int) -> tuple[int, int, int]:
     """(containers in the plan, of them with a pass or fail result, of them failed) -- one aggregate query."""
-    from sqlalchemy import text
-
-    row = session.connection().execute(text(
-        "SELECT COUNT(*), COALESCE(SUM(r.has_result), 0), COALESCE(SUM(r.has_fail), 0) FROM ("
-        "SELECT c.id, MAX(CASE WHEN e.verdict IN ('pass', 'fail') THEN 1 ELSE 0 END) AS has_result, "
-        "MAX(CASE WHEN e.verdict = 'fail' THEN 1 ELSE 0 END) AS has_fail "
-        + _CURRENT_RESULTS + "WHERE c.lot_id = :lot AND c.selected = :yes GROUP BY c.id) r"),
-        {"lot": lot_id, "yes": True}).one()
-    return int(row[0]), int(row[1]), int(row[2])
+    return upload_records.lot_progress(session.connection(), lot_id)
 
 
 def operators_of_lot(session: Session, lot_id: int) -> set[int]:

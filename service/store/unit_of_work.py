@@ -26,6 +26,8 @@ from sqlalchemy import text
 from sqlalchemy.engine import Connection, Engine
 from sqlmodel import Session
 
+from service.store.audit import HEAD_KEY
+
 WRITE_LOCK_KEY = 0x42414E44  # a fixed advisory-lock key for Bandgate record writes
 LOCAL_WAIT_S = 30.0  # as SQLite's busy timeout; after it, SQLite's own lock decides (and may refuse)
 
@@ -50,7 +52,7 @@ class UnitOfWork:
         self._conn: Connection | None = None
         self._committed = False
         self._local_lock: threading.RLock | None = None
-        self.session: Session
+        self._session: Session | None = None
 
     def __enter__(self) -> "UnitOfWork":
         if self.write and self.engine.dialect.name == "sqlite":
@@ -73,19 +75,35 @@ class UnitOfWork:
             conn.close()
             self._release_local()
             raise
+        conn.info.pop(HEAD_KEY, None)  # the audit chain's head is per transaction
         self._conn = conn
-        self.session = Session(bind=conn, expire_on_commit=False, autoflush=True)
         return self
+
+    @property
+    def connection(self) -> Connection:
+        """The transaction's connection, for Core statements (`service.store.upload_records`)."""
+        if self._conn is None:
+            raise RuntimeError("the unit of work is not open")
+        return self._conn
+
+    @property
+    def session(self) -> Session:
+        """An ORM session on the same transaction, made on first use."""
+        if self._session is None:
+            self._session = Session(bind=self.connection, expire_on_commit=False, autoflush=True)
+        return self._session
 
     @property
     def dialect(self) -> str:
         return self.engine.dialect.name
 
     def flush(self) -> None:
-        self.session.flush()
+        if self._session is not None:
+            self._session.flush()
 
     def commit(self) -> None:
-        self.session.flush()
+        if self._session is not None:
+            self._session.flush()
         self._trans.commit()
         self._committed = True
 
@@ -100,8 +118,10 @@ class UnitOfWork:
                 self.rollback()
         finally:
             try:
-                self.session.close()
+                if self._session is not None:
+                    self._session.close()
                 if self._conn is not None:
+                    self._conn.info.pop(HEAD_KEY, None)
                     self._conn.close()
             finally:
                 self._release_local()
