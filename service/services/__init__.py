@@ -18,7 +18,7 @@ from service.services.instruments import (
 )
 from service.services.lots import get_lot, list_lots, receive_lot
 from service.services.measurements import (
-    MeasurementRefused, UploadUnreadable, get_measurement, measurement_file, record_measurement,
+    MeasurementRefused, NamedOperator, UploadUnreadable, get_measurement, measurement_file, record_measurement,
     record_measurement_with_state,
 )
 from service.services.specifications import (
@@ -28,7 +28,7 @@ from service.services.specifications import (
 from service.store.audit import SYSTEM_ACTOR
 
 __all__ = [
-    "Actor", "AuditReport", "CheckTimeRefused", "MeasurementRefused", "SYSTEM_ACTOR", "UploadUnreadable", "add_reference",
+    "Actor", "AuditReport", "CheckTimeRefused", "MeasurementRefused", "NamedOperator", "SYSTEM_ACTOR", "UploadUnreadable", "add_reference",
     "approve_reference", "approve_spec_version", "approve_supplier", "audit_events", "create_material",
     "create_spec_draft", "create_supplier", "create_user", "dispose_lot", "effective_spec", "export_lot",
     "get_actor", "get_instrument", "get_lot", "get_material", "get_measurement", "get_spec_version",

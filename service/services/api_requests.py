@@ -60,10 +60,17 @@ def operator_actor(engine: Engine, *, username: str) -> Actor:
     try:
         actor = get_actor(engine, username)
     except NotFound:
+        actor = None
+    return checked_operator(username, actor)
+
+
+def checked_operator(username: str, actor: Actor | None) -> Actor:
+    """``actor`` (the active user found under ``username``, or None) if they may be named as operator."""
+    if actor is None:
         raise InvalidInput(
             f"no active user {username!r} to name as operator; give the username of the person who measured",
             fields=[FieldProblem("operator", "username of an active person")],
-        ) from None
+        )
     if not person_may(actor.roles, Action.record_measurement):
         raise InvalidInput(
             f"{actor.printed_name} ({actor.username}) has no role that records measurements; "
@@ -85,5 +92,5 @@ def lot_state(engine: Engine, code: str) -> str | None:
 
 __all__ = [
     "AnswerLost", "ClaimResult", "Claimed", "InFlight", "Mismatch", "Replay", "bind_on_commit", "claim",
-    "client_actor", "client_username", "complete", "lot_state", "operator_actor", "release", "watch",
+    "checked_operator", "client_actor", "client_username", "complete", "lot_state", "operator_actor", "release", "watch",
 ]

@@ -154,6 +154,25 @@ def _retest_of(history: list[rows.HistoryRow]) -> int | None:
 
 
 @dataclass(frozen=True)
+class NamedOperator:
+    """An operator named by username (a lab system's upload), checked inside the use case's transaction:
+    an active person whose role records measurements, or the upload is refused (field ``operator``)."""
+
+    username: str
+
+
+def _operator(conn: Connection, operator: Actor | NamedOperator) -> Actor:
+    if isinstance(operator, Actor):
+        return operator
+    from service.services.api_requests import checked_operator
+
+    row = rows.active_user(conn, (operator.username or "").strip().lower())
+    found = None if row is None else Actor(user_id=row.id, username=row.username, printed_name=row.printed_name,
+                                           roles=frozenset(r for r in row.roles.split(",") if r))
+    return checked_operator(operator.username, found)
+
+
+@dataclass(frozen=True)
 class _Basis:
     """What an evaluation rests on: the approved spec and reference, read before the write lock."""
 
@@ -220,7 +239,7 @@ def record_measurement(engine: Engine, actor: Actor, *, lot_code: str, container
 
 
 def record_measurement_with_state(
-    engine: Engine, actor: Actor, *, lot_code: str, container: int, instrument_code: str, data: bytes,
+    engine: Engine, actor: Actor | NamedOperator, *, lot_code: str, container: int, instrument_code: str, data: bytes,
     file_name: str = "", check_days: float = DEFAULT_CHECK_DAYS,
 ) -> tuple[MeasurementView, str]:
     """`record_measurement`, also giving the lot's state as committed by the same transaction.
@@ -228,8 +247,10 @@ def record_measurement_with_state(
     The upload answer reports the lot's state; taking it from the write saves a read afterwards.
 
     The file is read and evaluated before the write lock is taken (the slow part runs in
-    parallel); the write transaction then re-checks everything and stores the record, the
-    evaluation and the audit events together.
+    parallel), and everything that does not depend on the records (the evaluation document, the
+    digests) is computed then too; the write transaction re-checks everything and stores the
+    record, the evaluation and the audit events together, and the answer is built after it.
+    ``actor`` may be a `NamedOperator`: the person is then looked up in the first transaction.
     """
     if not isinstance(data, (bytes, bytearray)):
         raise InvalidInput("the spectrum file must be bytes", fields=[FieldProblem("file", "upload a file")])
@@ -240,11 +261,15 @@ def record_measurement_with_state(
 
     with UnitOfWork(engine, write=False) as uow:  # no lock: look up what the evaluation rests on
         conn = uow.connection
+        actor = _operator(conn, actor)
         target = _target(conn, lot_code=lot_code, container=container, instrument_code=instrument_code)
         basis = _basis(conn, target.lot.material_id, load=True)
     status, reason, evaluation = "refused", basis.missing or "", None
     if basis.missing is None:
         status, reason, evaluation = _evaluate(data, file_name, basis)
+    sha256 = sha256_hex(data)
+    document = canonical_json(evaluation.as_dict()) if evaluation is not None else ""
+    document_sha256 = sha256_hex(document)
 
     with UnitOfWork(engine) as uow:  # the write lock: judge again on the latest state, then store
         conn = uow.connection
@@ -263,7 +288,6 @@ def record_measurement_with_state(
         if refusal is not None:
             status, reason, evaluation = "refused", refusal, None
         received = utc_now()
-        sha256 = sha256_hex(data)
         retest_of = _retest_of(history)
         values: dict[str, Any] = {
             "lot_id": lot.id, "container_id": cont.id, "instrument_id": inst.id, "operator_id": actor.user_id,
@@ -277,7 +301,6 @@ def record_measurement_with_state(
         ev_row = None
         lot_state_after = lot.state
         if evaluation is not None:
-            document = canonical_json(evaluation.as_dict())
             ev_values: dict[str, Any] = {
                 "measurement_id": m.id, "verdict": str(evaluation.verdict), "document": document,
                 "spec_version_id": basis.spec_id, "reference_id": basis.ref_id,
@@ -286,7 +309,7 @@ def record_measurement_with_state(
             sh.audit(conn, actor, "evaluation.recorded", "evaluation", ev_row.id, new={
                 "measurement_id": m.id, "verdict": ev_row.verdict, "spec_version_id": basis.spec_id,
                 "spec_version": basis.spec_version, "reference_id": basis.ref_id,
-                "software_version": __version__, "document_sha256": sha256_hex(document)})
+                "software_version": __version__, "document_sha256": document_sha256})
             if not cont.sampled:
                 rows.mark_sampled(conn, cont.id, utc_now())
                 sh.audit(conn, actor, "container.sampled", "lot_container", cont.id, old={"sampled": False},
@@ -298,9 +321,9 @@ def record_measurement_with_state(
                 if step is not None:
                     lot_state_after = _step_lot(conn, actor, lot.id, lot_state_after, step)
         uow.commit()
-        view = measurement_view(m, lot_code=lot.code, container=cont.number, instrument=inst.code,
-                                operator=actor.printed_name, evaluation=ev_row,
-                                spec_version=basis.spec_version if ev_row else None, invalidation_cause=None)
+    view = measurement_view(m, lot_code=lot.code, container=cont.number, instrument=inst.code,
+                            operator=actor.printed_name, evaluation=ev_row,
+                            spec_version=basis.spec_version if ev_row else None, invalidation_cause=None)
     if status == "unreadable":
         raise UploadUnreadable(reason, measurement=view)
     if status == "refused":

@@ -22,7 +22,7 @@ from sqlalchemy.engine import Connection
 
 from service.store.tables import (
     Evaluation, Instrument, InstrumentCheck, Lot, LotContainer, Material, Measurement,
-    MeasurementInvalidation, ReferenceSpectrum, SpecificationVersion, StoredFile,
+    MeasurementInvalidation, ReferenceSpectrum, SpecificationVersion, StoredFile, User,
 )
 
 _LOTS = Lot.__table__
@@ -36,6 +36,15 @@ _FILES = StoredFile.__table__
 _MEASUREMENTS = Measurement.__table__
 _INVALIDATIONS = MeasurementInvalidation.__table__
 _EVALUATIONS = Evaluation.__table__
+_USERS = User.__table__
+
+
+@dataclass(frozen=True, kw_only=True)
+class UserRow:
+    id: int
+    username: str
+    printed_name: str
+    roles: str
 
 
 @dataclass(frozen=True, kw_only=True)
@@ -103,6 +112,8 @@ class HistoryRow:
     verdict: str | None
 
 
+_ACTIVE_USER = (select(_USERS.c.id, _USERS.c.username, _USERS.c.printed_name, _USERS.c.roles)
+                .where(_USERS.c.username == bindparam("username"), _USERS.c.active.is_(True)))
 _TARGET = (
     select(_LOTS.c.id, _LOTS.c.code, _LOTS.c.state, _LOTS.c.material_id, _LOTS.c.containers_received,
            _CONTAINERS.c.id, _CONTAINERS.c.number, _CONTAINERS.c.selected, _CONTAINERS.c.sampled,
@@ -170,6 +181,12 @@ _MARK_SAMPLED = (update(_CONTAINERS).where(_CONTAINERS.c.id == bindparam("contai
                  .values(sampled=True, sampled_at=bindparam("at")))
 _SET_LOT_STATE = (update(_LOTS).where(_LOTS.c.id == bindparam("lot_id"))
                   .values(state=bindparam("new_state"), state_changed_at=bindparam("at")))
+
+
+def active_user(conn: Connection, username: str) -> UserRow | None:
+    """The active user with this (already normalised) username, or None."""
+    row = conn.execute(_ACTIVE_USER, {"username": username}).first()
+    return None if row is None else UserRow(id=row[0], username=row[1], printed_name=row[2], roles=row[3])
 
 
 def upload_target(conn: Connection, *, lot_code: str, container: int, instrument_code: str) -> UploadTarget | None:

@@ -152,6 +152,14 @@ async def _check_csrf(request: Request, person: SignedIn) -> None:
                           "try again. Nothing was changed")
 
 
+async def _looked_up(request: Request, key: str, look_up: Any) -> Any:
+    """The caller found once per request (the guard runs before the body is read and again as a
+    dependency): a database look-up in the thread pool the first time, the kept answer after."""
+    if hasattr(request.state, key):
+        return getattr(request.state, key)
+    return await run_in_threadpool(look_up, request)
+
+
 def require_action(action: Action) -> Any:
     """A dependency that admits the caller only if they may do ``action``; returns the `Principal`."""
     action = Action(action)
@@ -161,7 +169,7 @@ def require_action(action: Action) -> Any:
             return Principal()
         bearer = _bearer(request)
         if bearer is not None:
-            client = await run_in_threadpool(current_client, request)
+            client = await _looked_up(request, "bandgate_client", current_client)
             if client is None:
                 raise NotAuthenticated("the bearer token is not recognised or was revoked; "
                                        "ask an administrator for a token (`bandgate token create`)")
@@ -171,7 +179,7 @@ def require_action(action: Action) -> Any:
                                 + ("; signatures are given by people, never by tokens"
                                    if action.value.startswith("sign_") else ""))
             return Principal(client=client)
-        person = await run_in_threadpool(current_person, request)
+        person = await _looked_up(request, "bandgate_person", current_person)
         if person is None:
             raise NotAuthenticated("sign in first (your session may have ended after a period without activity)")
         if person.must_change_password and action is not Action.own_account:

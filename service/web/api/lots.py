@@ -4,13 +4,12 @@ from __future__ import annotations
 
 from typing import Annotated, Any
 
-from fastapi import APIRouter, Depends, File, Form, Path, Query, Request, UploadFile
+from fastapi import APIRouter, File, Form, Path, Query, Request, UploadFile
 from fastapi.responses import JSONResponse
 
 from service import errors as e
 from service import services as uc
 from service.release.permissions import Action
-from service.services.api_requests import operator_actor
 from service.services.notices import EVENTS as NOTICE_EVENTS
 from service.web.api.access import ApiRoute, acting_user
 from service.web.auth import Principal, require_action
@@ -112,7 +111,7 @@ def upload_measurement(
     engine = request.app.state.engine
     check_text(instrument=instrument, operator=operator)
     upload = read_upload(file, request)
-    actor = operator_actor(engine, username=operator)
+    actor = uc.NamedOperator(operator)  # checked inside the use case's own transaction
     settings = request.app.state.settings
     payload = {"container": container, "instrument": instrument, "operator": operator,
                "file_sha256": upload.sha256, "file_name": upload.file_name}
