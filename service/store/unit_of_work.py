@@ -6,11 +6,9 @@ appended one at a time and the chain never forks under concurrent writers:
 * SQLite: ``BEGIN IMMEDIATE`` (the engine's begin hook reads ``conn.info["sqlite_begin"]``);
 * PostgreSQL: a transaction-scoped advisory lock, ``pg_advisory_xact_lock``.
 
-On SQLite, writers of the same process also queue on an in-process lock (per engine) before
-``BEGIN IMMEDIATE``: SQLite's busy handler makes a waiting writer sleep in growing steps (up to
-100 ms each), so under several concurrent uploads the unlucky ones waited close to a second while
-the lock was free most of that time; a Python lock hands it over at once, in arrival order.
-Other processes still meet SQLite's own lock and busy timeout.
+On SQLite, writers first queue for their turn (`service.store.writer_queue`: threads on a lock
+per engine, worker processes on a lock file beside the database) before ``BEGIN IMMEDIATE``, so the
+write lock is handed over at once instead of being slept on in SQLite's busy handler.
 
 Any state read after the lock is taken is the latest committed state, so a check-then-write in
 the same unit of work (e.g. "the lot is still awaiting disposition, so release it") is safe.
@@ -18,8 +16,6 @@ the same unit of work (e.g. "the lot is still awaiting disposition, so release i
 
 from __future__ import annotations
 
-import threading
-import weakref
 from types import TracebackType
 
 from sqlalchemy import text
@@ -27,20 +23,9 @@ from sqlalchemy.engine import Connection, Engine
 from sqlmodel import Session
 
 from service.store.audit import HEAD_KEY
+from service.store.writer_queue import WriterQueue, writer_queue
 
 WRITE_LOCK_KEY = 0x42414E44  # a fixed advisory-lock key for Bandgate record writes
-LOCAL_WAIT_S = 30.0  # as SQLite's busy timeout; after it, SQLite's own lock decides (and may refuse)
-
-_local_locks: "weakref.WeakKeyDictionary[Engine, threading.RLock]" = weakref.WeakKeyDictionary()
-_local_locks_guard = threading.Lock()
-
-
-def _local_write_lock(engine: Engine) -> threading.RLock:
-    with _local_locks_guard:
-        lock = _local_locks.get(engine)
-        if lock is None:
-            lock = _local_locks[engine] = threading.RLock()
-        return lock
 
 
 class UnitOfWork:
@@ -51,18 +36,18 @@ class UnitOfWork:
         self.write = write
         self._conn: Connection | None = None
         self._committed = False
-        self._local_lock: threading.RLock | None = None
+        self._turn: WriterQueue | None = None
         self._session: Session | None = None
 
     def __enter__(self) -> "UnitOfWork":
         if self.write and self.engine.dialect.name == "sqlite":
-            lock = _local_write_lock(self.engine)
-            if lock.acquire(timeout=LOCAL_WAIT_S):
-                self._local_lock = lock
+            queue = writer_queue(self.engine)
+            if queue.acquire():  # else, after the wait, SQLite's own lock decides
+                self._turn = queue
         try:
             conn = self.engine.connect()
         except BaseException:
-            self._release_local()
+            self._release_turn()
             raise
         try:
             if conn.dialect.name == "sqlite" and self.write:
@@ -73,7 +58,7 @@ class UnitOfWork:
         except BaseException:
             conn.info.pop("sqlite_begin", None)
             conn.close()
-            self._release_local()
+            self._release_turn()
             raise
         conn.info.pop(HEAD_KEY, None)  # the audit chain's head is per transaction
         self._conn = conn
@@ -124,9 +109,9 @@ class UnitOfWork:
                     self._conn.info.pop(HEAD_KEY, None)
                     self._conn.close()
             finally:
-                self._release_local()
+                self._release_turn()
 
-    def _release_local(self) -> None:
-        if self._local_lock is not None:
-            lock, self._local_lock = self._local_lock, None
-            lock.release()
+    def _release_turn(self) -> None:
+        if self._turn is not None:
+            turn, self._turn = self._turn, None
+            turn.release()
