@@ -40,17 +40,20 @@ class UploadScenario:
     token: str
     lots: list[str]
     sample: bytes
+    runs: int
 
-    def slot(self, clients: int, i: int) -> tuple[str, int]:
-        """(lot code, container) of the ``i``-th upload of a run (clients 1, 4; anything else: spare lots)."""
-        n = {1: 0, 4: 1}.get(clients, 2) * (len(self.lots) // 3) * CONTAINERS_PER_LOT + i
+    def slot(self, run: int, i: int) -> tuple[str, int]:
+        """(lot code, container) of the ``i``-th upload of run number ``run`` (each run has its own lots)."""
+        if not 0 <= run < self.runs:
+            raise ValueError(f"run {run} is outside the {self.runs} runs prepared")
+        n = run * (len(self.lots) // self.runs) * CONTAINERS_PER_LOT + i
         return self.lots[n // CONTAINERS_PER_LOT], n % CONTAINERS_PER_LOT + 1
 
-    def request_factory(self, clients: int) -> Any:
+    def request_factory(self, run: int) -> Any:
         from service.bench.http import multipart
 
         def make(i: int) -> tuple[str, str, bytes, dict[str, str]]:
-            code, container = self.slot(clients, i)
+            code, container = self.slot(run, i)
             body, ctype = multipart(
                 {"container": str(container), "instrument": INSTRUMENT, "operator": "bench.tech"},
                 {"file": ("bench-sample-synthetic.csv", self.sample, "text/csv")})
@@ -60,7 +63,7 @@ class UploadScenario:
         return make
 
 
-def prepare_upload_scenario(url: str, *, uploads_per_run: int) -> UploadScenario:
+def prepare_upload_scenario(url: str, *, uploads_per_run: int, runs: int = 3) -> UploadScenario:
     from service import services as uc
     from service.services.security_clients import create_token
     from service.store.audit import SYSTEM_ACTOR
@@ -92,7 +95,7 @@ def prepare_upload_scenario(url: str, *, uploads_per_run: int) -> UploadScenario
         lots = [uc.receive_lot(engine, qa, material_code=MATERIAL, supplier_name=SUPPLIER,
                                supplier_lot=f"BENCH-{i}", containers=CONTAINERS_PER_LOT,
                                received_on=date(2026, 12, 1)).code
-                for i in itertools.islice(itertools.count(), 3 * per_run)]
+                for i in itertools.islice(itertools.count(), runs * per_run)]
     finally:
         engine.dispose()
-    return UploadScenario(token=token, lots=lots, sample=spectrum_csv(ESTER, seed=11))
+    return UploadScenario(token=token, lots=lots, sample=spectrum_csv(ESTER, seed=11), runs=runs)

@@ -1,10 +1,13 @@
 """HTTP end to end: a real server on 127.0.0.1, a 3,600-point spectrum uploaded and evaluated.
 
-The server is `uvicorn` in a subprocess (one worker, the SQLite default, WAL + synchronous=FULL), so
-the figures include the socket, the multipart parse, the reader, the evaluation, the stored record
-with its audit event, and the response. `GET /healthz` is measured in the same run as the ceiling:
-the upload path should reach at least a tenth of its throughput. Each load is bounded by a
-request count and a wall-clock limit; traffic goes to loopback only.
+The server is `uvicorn` in a subprocess on the SQLite default (WAL + synchronous=FULL), run once with
+one worker process and once with two (as `deploy/` runs it, `bandgate serve --workers 2`), so the
+figures include the socket, the multipart parse, the reader, the evaluation, the stored record with
+its audit events, and the response. `GET /healthz` is measured on the same server in the same run
+as the ceiling: the upload path should reach at least a tenth of its throughput. Each load also
+reports the server's own CPU time per request (all its processes, from /proc), which moves far less
+than throughput on a shared machine. Each load is bounded by a request count and a wall-clock
+limit; traffic goes to loopback only.
 """
 
 from __future__ import annotations
@@ -30,6 +33,7 @@ HOST = "127.0.0.1"
 HEALTH_REQUESTS = 1500
 UPLOAD_REQUESTS = 120
 TIME_LIMIT_S = 20.0
+WORKER_SETTINGS = (1, 2)
 
 Request = tuple[str, str, bytes, dict[str, str]]  # method, path, body, headers
 
@@ -41,10 +45,13 @@ class LoadResult:
     errors: int = 0
     first_error: str = ""
     wall_s: float = 0.0
+    server_cpu_s: float | None = None  # the server's CPU time (all its processes) during the load
 
     def figures(self) -> dict[str, Any]:
         lat = sorted(self.latencies_ms)
         done = len(lat)
+        cpu = (round(self.server_cpu_s * 1e3 / (done + self.errors), 3)
+               if self.server_cpu_s is not None and done + self.errors else None)
         return {
             "clients": self.clients,
             "requests": done,
@@ -52,6 +59,7 @@ class LoadResult:
             "requests_per_s": round(done / self.wall_s, 1) if self.wall_s else 0.0,
             "p50_ms": round(percentile(lat, 50), 2) if lat else None,
             "p99_ms": round(percentile(lat, 99), 2) if lat else None,
+            **({"server_cpu_ms_per_request": cpu} if cpu is not None else {}),
             **({"first_error": self.first_error} if self.first_error else {}),
         }
 
@@ -64,6 +72,31 @@ def percentile(sorted_values: list[float], q: float) -> float:
     return sorted_values[int(rank) - 1]
 
 
+def process_tree_cpu_s(pid: int) -> float | None:
+    """CPU seconds (user + system) used so far by ``pid`` and its descendants; None off Linux."""
+    tick = os.sysconf("SC_CLK_TCK") if hasattr(os, "sysconf") else 100
+    total, stack, seen = 0.0, [pid], set()
+    while stack:
+        p = stack.pop()
+        if p in seen:
+            continue
+        seen.add(p)
+        try:
+            fields = Path(f"/proc/{p}/stat").read_text().rsplit(")", 1)[1].split()
+            tasks = os.listdir(f"/proc/{p}/task")
+        except (OSError, IndexError):
+            if p == pid:
+                return None
+            continue
+        total += (int(fields[11]) + int(fields[12])) / tick  # utime, stime of all the process's threads
+        for t in tasks:
+            try:
+                stack.extend(int(c) for c in Path(f"/proc/{p}/task/{t}/children").read_text().split())
+            except OSError:
+                pass
+    return total
+
+
 def free_port() -> int:
     with socket.socket(socket.AF_INET, socket.SOCK_STREAM) as s:
         s.bind((HOST, 0))
@@ -73,9 +106,10 @@ def free_port() -> int:
 class Server:
     """`uvicorn service.web.asgi:app` on a free loopback port, for the life of a `with` block."""
 
-    def __init__(self, database_url: str, *, extra_env: dict[str, str] | None = None) -> None:
+    def __init__(self, database_url: str, *, workers: int = 1, extra_env: dict[str, str] | None = None) -> None:
         self.port = free_port()
         self.database_url = database_url
+        self.workers = workers
         self.extra_env = extra_env or {}
         self.proc: subprocess.Popen[bytes] | None = None
 
@@ -85,7 +119,8 @@ class Server:
         env["PYTHONPATH"] = root + (os.pathsep + env["PYTHONPATH"] if env.get("PYTHONPATH") else "")
         self.proc = subprocess.Popen(
             [sys.executable, "-m", "uvicorn", "service.web.asgi:app", "--factory", "--host", HOST,
-             "--port", str(self.port), "--log-level", "warning", "--no-access-log"],
+             "--port", str(self.port), "--workers", str(self.workers), "--log-level", "warning",
+             "--no-access-log"],
             env=env, stdout=subprocess.DEVNULL, stderr=subprocess.PIPE,
         )
         deadline = time.monotonic() + 30
@@ -130,9 +165,12 @@ def request_once(port: int, req: Request, conn: http.client.HTTPConnection | Non
 
 def run_load(
     port: int, make_request: Callable[[int], Request], *, clients: int, total: int,
-    time_limit_s: float = TIME_LIMIT_S, expect: int = 200,
+    time_limit_s: float = TIME_LIMIT_S, expect: int = 200, server_pid: int | None = None,
 ) -> LoadResult:
-    """Send ``total`` requests from ``clients`` threads (keep-alive connections), stop at the time limit."""
+    """Send ``total`` requests from ``clients`` threads (keep-alive connections), stop at the time limit.
+
+    With ``server_pid``, the server's CPU time over the load is recorded too.
+    """
     result = LoadResult(clients=clients)
     lock = threading.Lock()
     counter = iter(range(total))
@@ -166,12 +204,16 @@ def run_load(
             conn.close()
 
     threads = [threading.Thread(target=worker, daemon=True) for _ in range(clients)]
+    cpu0 = process_tree_cpu_s(server_pid) if server_pid is not None else None
     t0 = time.perf_counter()
     for th in threads:
         th.start()
     for th in threads:
         th.join(time_limit_s + 60)
     result.wall_s = time.perf_counter() - t0
+    cpu1 = process_tree_cpu_s(server_pid) if server_pid is not None else None
+    if cpu0 is not None and cpu1 is not None:
+        result.server_cpu_s = cpu1 - cpu0
     return result
 
 
@@ -218,7 +260,7 @@ def _in_process_breakdown(url: str, scenario: Any, repeats: int = 15) -> BenchRe
             evaluator.read_spectrum(scenario.sample, file_name="bench-sample-synthetic.csv")
             reads.append((time.perf_counter() - t0) * 1e3)
         tech = uc.get_actor(engine, "bench.tech")
-        for i in range(3, 3 + repeats):  # spare lots; the warm-up took slots 0-2
+        for i in range(10, 10 + repeats):  # the first warm-up run's spare slots (it took the first four)
             code, container = scenario.slot(0, i)
             t0 = time.perf_counter()
             uc.record_measurement(engine, tech, lot_code=code, container=container, instrument_code="BENCH-FTIR",
@@ -231,32 +273,43 @@ def _in_process_breakdown(url: str, scenario: Any, repeats: int = 15) -> BenchRe
         "repeats": repeats})
 
 
+def _measure(scenario: Any, url: str, workers: int, first_run: int) -> dict[tuple[str, int], LoadResult]:
+    """healthz with 1 and 4 clients, a warm-up, then uploads with 1 and 4 clients, on one server."""
+    results: dict[tuple[str, int], LoadResult] = {}
+    with Server(url, workers=workers) as server:
+        pid = server.proc.pid if server.proc is not None else None
+        for clients in (1, 4):
+            results[("healthz", clients)] = run_load(
+                server.port, _health_request, clients=clients, total=HEALTH_REQUESTS, server_pid=pid)
+        # warm-up: each worker's first uploads pay imports and the reference and library caches (not timed)
+        run_load(server.port, scenario.request_factory(first_run), clients=2 * workers, total=4 * workers,
+                 expect=201)
+        for k, clients in enumerate((1, 4), start=1):
+            results[("upload", clients)] = run_load(
+                server.port, scenario.request_factory(first_run + k), clients=clients, total=UPLOAD_REQUESTS,
+                expect=201, server_pid=pid)
+    return results
+
+
 def cases() -> list[BenchReport]:
     from service.bench._http_scenario import prepare_upload_scenario
 
     url = _fresh_sqlite()
-    scenario = prepare_upload_scenario(url, uploads_per_run=UPLOAD_REQUESTS)
-    reports: list[BenchReport] = []
-    with Server(url) as server:
-        results: dict[tuple[str, int], LoadResult] = {}
+    scenario = prepare_upload_scenario(url, uploads_per_run=UPLOAD_REQUESTS, runs=3 * len(WORKER_SETTINGS))
+    measured = {workers: _measure(scenario, url, workers, first_run=3 * k)
+                for k, workers in enumerate(WORKER_SETTINGS)}
+    reports: list[BenchReport] = [_in_process_breakdown(url, scenario)]
+    for workers, results in measured.items():
         for clients in (1, 4):
-            results[("healthz", clients)] = run_load(
-                server.port, _health_request, clients=clients, total=HEALTH_REQUESTS)
-        # warm-up: first upload pays imports, the reference and library caches (spare lots, not timed)
-        run_load(server.port, scenario.request_factory(0), clients=1, total=3, expect=201)
-        for clients in (1, 4):
-            results[("upload", clients)] = run_load(
-                server.port, scenario.request_factory(clients), clients=clients, total=UPLOAD_REQUESTS,
-                expect=201)
-    reports.append(_in_process_breakdown(url, scenario))
-    for clients in (1, 4):
-        health = results[("healthz", clients)]
-        upload = results[("upload", clients)]
-        reports.append(BenchReport(f"GET /healthz, {clients} client(s) (ceiling)", health.figures()))
-        up = upload.figures()
-        ceiling = health.figures()["requests_per_s"] or 1.0
-        up["share_of_ceiling"] = round(up["requests_per_s"] / ceiling, 3)
-        reports.append(BenchReport(
-            f"POST measurement (3,600-point spectrum: parse, read, evaluate, store, audit), {clients} client(s)",
-            up, aim=">= 0.1 of the /healthz throughput in the same run; no errors"))
+            health = results[("healthz", clients)].figures()
+            up = results[("upload", clients)].figures()
+            up["share_of_ceiling"] = round(up["requests_per_s"] / (health["requests_per_s"] or 1.0), 3)
+            if health.get("server_cpu_ms_per_request") and up.get("server_cpu_ms_per_request"):
+                up["cpu_cost_vs_healthz"] = round(up["server_cpu_ms_per_request"]
+                                                  / health["server_cpu_ms_per_request"], 1)
+            where = f"{workers} worker(s), {clients} client(s)"
+            reports.append(BenchReport(f"GET /healthz, {where} (ceiling)", health))
+            reports.append(BenchReport(
+                f"POST measurement (3,600-point spectrum: parse, read, evaluate, store, audit), {where}",
+                up, aim=">= 0.1 of the /healthz throughput in the same run; no errors"))
     return reports

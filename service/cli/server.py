@@ -61,9 +61,10 @@ def _run_server(settings: Settings, host: str, port: int, workers: int = 1) -> i
     import uvicorn
 
     from service.web.app import create_app
+    from service.web.asgi import ready_to_serve
 
     if workers <= 1:
-        app = create_app(settings)  # refuses to start on an unmigrated database
+        app = ready_to_serve(create_app(settings))  # refuses to start on an unmigrated database
         uvicorn.run(app, host=host, port=port, log_level="warning", access_log=False)
     else:
         create_app(settings)  # fail fast in the parent with a clear message

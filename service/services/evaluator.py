@@ -19,6 +19,7 @@ from service.release.digests import sha256_hex
 _CACHE_SIZE = 64
 _spectra: "OrderedDict[str, Any]" = OrderedDict()
 _specs: "OrderedDict[str, Any]" = OrderedDict()
+_documents: "OrderedDict[str, dict[str, Any]]" = OrderedDict()
 _lock = threading.Lock()  # the caches are shared by the server's worker threads
 
 
@@ -50,13 +51,32 @@ def read_cached(data: bytes, *, file_name: str = "") -> Any:
     return spectrum
 
 
-def parse_specification(document: dict[str, Any]) -> Any:
-    """Validate a specification document; raises the evaluator's InvalidInput naming every field."""
+def stored_document(text: str) -> dict[str, Any]:
+    """A stored specification's JSON, parsed once per text (callers must not change the dict)."""
+    with _lock:
+        hit = _documents.get(text)
+    if hit is not None:
+        return hit
+    doc = json.loads(text)
+    with _lock:
+        _documents[text] = doc
+        while len(_documents) > _CACHE_SIZE:
+            _documents.popitem(last=False)
+    return doc  # type: ignore[no-any-return]
+
+
+def parse_specification(document: dict[str, Any], *, stored_text: str | None = None) -> Any:
+    """Validate a specification document; raises the evaluator's InvalidInput naming every field.
+
+    ``stored_text`` (the stored JSON the document was parsed from) keys the cache without
+    serialising the document again.
+    """
     try:
         from service.evaluation import parse_specification as _parse
     except ImportError as exc:  # pragma: no cover
         raise _missing("the evaluator", exc) from None
-    key = sha256_hex(json.dumps(document, sort_keys=True, default=str))
+    key = "text:" + stored_text if stored_text is not None else sha256_hex(
+        json.dumps(document, sort_keys=True, default=str))
     with _lock:
         hit = _specs.get(key)
     if hit is not None:

@@ -179,6 +179,7 @@ class _Basis:
     spec_id: int | None
     spec_version: int | None
     spec_doc: dict | None
+    spec_text: str | None
     ref_id: int | None
     ref_preparation: str | None
     reference: Any
@@ -186,20 +187,21 @@ class _Basis:
     missing: str | None
 
 
-def _basis(conn: Connection, material_id: int, *, load: bool) -> _Basis:
+def _preparation(doc: dict[str, Any]) -> str | None:
+    prep = doc.get("preparation")
+    return prep if isinstance(prep, str) else (prep or {}).get("method")
+
+
+def _basis(conn: Connection, material_id: int) -> _Basis:
     spec_row = rows.approved_spec(conn, material_id)
     if spec_row is None:
-        return _Basis(None, None, None, None, None, None, None,
+        return _Basis(None, None, None, None, None, None, None, None,
                       "the material has no approved specification; the quality unit must approve one first")
-    doc = sh.loads(spec_row.document)
-    prep = doc.get("preparation")
-    prep = prep if isinstance(prep, str) else (prep or {}).get("method")
-    ref_row = rows.approved_reference(conn, material_id, prep)
+    doc = evaluator.stored_document(spec_row.document)
+    ref_row = rows.approved_reference(conn, material_id, _preparation(doc))
     if ref_row is None:
-        return _Basis(spec_row.id, spec_row.version, doc, None, None, None, None,
+        return _Basis(spec_row.id, spec_row.version, doc, spec_row.document, None, None, None, None,
                       "the material has no approved reference spectrum; the quality unit must approve one first")
-    if not load:
-        return _Basis(spec_row.id, spec_row.version, doc, ref_row.id, ref_row.preparation, None, None, None)
 
     def load_ref(ref_id: int) -> tuple[bytes, str]:
         return rows.reference_file(conn, ref_id)
@@ -209,9 +211,24 @@ def _basis(conn: Connection, material_id: int, *, load: bool) -> _Basis:
         reference = evaluator.reference_spectrum(ref_row.sha256, lambda: load_ref(ref_row.id))
         library = evaluator.library_for(entries, load_ref)
     except BandgateError as exc:
-        return _Basis(spec_row.id, spec_row.version, doc, ref_row.id, ref_row.preparation, None, None,
-                      f"the approved reference cannot be used: {exc.message}")
-    return _Basis(spec_row.id, spec_row.version, doc, ref_row.id, ref_row.preparation, reference, library, None)
+        return _Basis(spec_row.id, spec_row.version, doc, spec_row.document, ref_row.id, ref_row.preparation,
+                      None, None, f"the approved reference cannot be used: {exc.message}")
+    return _Basis(spec_row.id, spec_row.version, doc, spec_row.document, ref_row.id, ref_row.preparation,
+                  reference, library, None)
+
+
+def _basis_changed(conn: Connection, material_id: int, basis: _Basis) -> str | None:
+    """Under the write lock: why the approved spec and reference no longer match ``basis``, if they don't."""
+    spec_id, ref_id = rows.approved_ids(conn, material_id, _preparation(basis.spec_doc or {}))
+    if spec_id is None:
+        return "the material has no approved specification; the quality unit must approve one first"
+    if spec_id != basis.spec_id:
+        return "the approved specification or reference changed during the upload; upload the file again"
+    if ref_id is None:
+        return "the material has no approved reference spectrum; the quality unit must approve one first"
+    if ref_id != basis.ref_id:
+        return "the approved specification or reference changed during the upload; upload the file again"
+    return None
 
 
 def _evaluate(data: bytes, file_name: str, basis: _Basis) -> tuple[str, str, Any]:
@@ -221,7 +238,7 @@ def _evaluate(data: bytes, file_name: str, basis: _Basis) -> tuple[str, str, Any
     except UnusableInput as exc:
         return "unreadable", exc.message, None
     try:
-        spec = evaluator.parse_specification(basis.spec_doc)  # type: ignore[arg-type]
+        spec = evaluator.parse_specification(basis.spec_doc, stored_text=basis.spec_text)  # type: ignore[arg-type]
         result = evaluator.evaluate(sample=sample, spec=spec, reference=basis.reference, library=basis.library,
                                     reference_preparation=basis.ref_preparation)
     except BandgateError as exc:
@@ -263,7 +280,7 @@ def record_measurement_with_state(
         conn = uow.connection
         actor = _operator(conn, actor)
         target = _target(conn, lot_code=lot_code, container=container, instrument_code=instrument_code)
-        basis = _basis(conn, target.lot.material_id, load=True)
+        basis = _basis(conn, target.lot.material_id)
     status, reason, evaluation = "refused", basis.missing or "", None
     if basis.missing is None:
         status, reason, evaluation = _evaluate(data, file_name, basis)
@@ -279,12 +296,7 @@ def record_measurement_with_state(
         history = rows.container_history(conn, cont.id)
         standing, _facts = instrument_standing(conn, instrument_id=inst.id, code=inst.code, active=inst.active,
                                                check_days=check_days)
-        refusal = _refusal(lot, cont, history, standing)
-        now_basis = _basis(conn, lot.material_id, load=False)
-        if refusal is None and now_basis.missing is not None:
-            refusal = now_basis.missing
-        elif refusal is None and (now_basis.spec_id, now_basis.ref_id) != (basis.spec_id, basis.ref_id):
-            refusal = "the approved specification or reference changed during the upload; upload the file again"
+        refusal = _refusal(lot, cont, history, standing) or _basis_changed(conn, lot.material_id, basis)
         if refusal is not None:
             status, reason, evaluation = "refused", refusal, None
         received = utc_now()

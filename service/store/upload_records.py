@@ -136,6 +136,9 @@ _APPROVED_REFERENCE = (
     .order_by(case((_REFS.c.preparation == bindparam("preparation"), 0), else_=1), _REFS.c.id.desc())
     .limit(1)
 )
+# Both at once, for the write transaction's re-check: which spec and reference are approved now.
+_APPROVED_IDS = select(_APPROVED_SPEC.with_only_columns(_SPECS.c.id).scalar_subquery(),
+                       _APPROVED_REFERENCE.with_only_columns(_REFS.c.id).scalar_subquery())
 _REFERENCE_FILE = (
     select(_FILES.c.content, _REFS.c.file_name)
     .select_from(_REFS).join(_FILES, _FILES.c.id == _REFS.c.file_id)
@@ -209,6 +212,13 @@ def approved_spec(conn: Connection, material_id: int) -> SpecRow | None:
 def approved_reference(conn: Connection, material_id: int, preparation: str | None) -> ReferenceRow | None:
     row = conn.execute(_APPROVED_REFERENCE, {"material_id": material_id, "preparation": preparation}).first()
     return None if row is None else ReferenceRow(id=row[0], preparation=row[1], sha256=row[2])
+
+
+def approved_ids(conn: Connection, material_id: int, preparation: str | None) -> tuple[int | None, int | None]:
+    """(approved spec id, approved reference id) now: the same choice as `approved_spec` and
+    `approved_reference`, in one statement."""
+    row = conn.execute(_APPROVED_IDS, {"material_id": material_id, "preparation": preparation}).one()
+    return row[0], row[1]
 
 
 def reference_file(conn: Connection, ref_id: int) -> tuple[bytes, str]:
