@@ -17,6 +17,7 @@ from __future__ import annotations
 import csv
 import io
 import re
+from functools import lru_cache
 
 import numpy as np
 from numpy.typing import NDArray
@@ -32,6 +33,7 @@ from service.spectra.axis_units import (
     x_unit_label,
     y_kind_from_label,
 )
+from service.spectra.fixed_layout import read_fixed_layout
 from service.spectra.model import Spectrum, SpectrumError, SpectrumMeta, YKind
 from service.spectra.reader_errors import ReaderError
 
@@ -66,15 +68,15 @@ def _numeric_fields(fields: list[str], decimal_comma: bool) -> bool:
 def _leading_lines(text: str, n: int) -> list[str]:
     """The first ``n`` lines that are neither blank nor ``#`` comments, without splitting the whole text."""
     out: list[str] = []
-    start = 0
+    rest = text
     while len(out) < n:
-        end = text.find("\n", start)
-        line = text[start:] if end < 0 else text[start:end]
-        if line.strip() and not line.lstrip().startswith("#"):
-            out.append(line)
-        if end < 0:
+        want = n - len(out)
+        parts = rest.split("\n", want)  # at most ``want`` lines, and the remainder
+        more = len(parts) > want
+        rest = parts.pop() if more else ""
+        out += [ln for ln in parts if ln.strip() and not ln.lstrip().startswith("#")]
+        if not more:
             break
-        start = end + 1
     return out
 
 
@@ -87,6 +89,28 @@ def sniff(text: str) -> tuple[str | None, str, bool] | None:
     if not lines:
         return None
     tail = lines[len(lines) // 3:] or lines  # past any header block
+    return _plain_layout(tail) or _judged_layout(tail)
+
+
+def _plain_layout(tail: list[str]) -> tuple[str | None, str, bool] | None:
+    """What :func:`_judged_layout` finds, when the lines make it plain; None when they do not.
+
+    Plain: at least two lines, and every line the same number (two or more) of numbers, split by
+    the first separator that occurs at all, with no decimal comma or quotes. Such lines pass the
+    first test of the judgement below (every row numeric, every row the same width), so its
+    answer is this one; one regex over the block decides it instead of a regex per field.
+    """
+    if len(tail) < 2:
+        return None
+    block = "\n".join(tail)
+    sep, name = next((s, n) for s, n in _SEPARATORS if s is None or s in block)
+    width = len([f for f in _split(tail[0], sep) if f.strip()])
+    if width < 2 or not _rows_of(sep, width).fullmatch(block):
+        return None
+    return sep, name, False
+
+
+def _judged_layout(tail: list[str]) -> tuple[str | None, str, bool] | None:
     for sep, name in _SEPARATORS:
         if sep is not None and not any(sep in ln for ln in tail):
             continue  # every row would be one field: cannot be columns
@@ -99,6 +123,24 @@ def sniff(text: str) -> tuple[str | None, str, bool] | None:
                 if widths.count(common) >= 0.9 * len(widths):
                     return sep, name, decimal_comma
     return None
+
+
+# _NUM with ASCII digits only, and unambiguous (the fraction needs its point), so that a regex
+# over many fields cannot backtrack into earlier fields at length-product cost
+_ASCII_NUM = r"[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?"
+
+
+@lru_cache(maxsize=64)
+def _rows_of(sep: str | None, width: int) -> re.Pattern[str]:
+    """Lines of exactly ``width`` numbers, as ``_split`` and ``_numeric_fields`` read them (with
+    trailing empty fields allowed, as those drop them), blanks around fields; one line per ``\n``."""
+    if sep is None:
+        row = rf"[ \t]*{_ASCII_NUM}(?:[ \t]+{_ASCII_NUM}){{{width - 1}}}[ \t]*"
+    else:
+        blank = "[ ]*" if sep == "\t" else r"[ \t]*"  # never the separator itself
+        s_ = re.escape(sep)
+        row = rf"{blank}{_ASCII_NUM}{blank}(?:{s_}{blank}{_ASCII_NUM}{blank}){{{width - 1}}}(?:{s_}{blank})*"
+    return re.compile(rf"(?>{row})(?:\n(?>{row}))*")
 
 
 def read_delimited(
@@ -145,9 +187,8 @@ def read_sniffed(
             "separated by comma, semicolon, tab or blanks"
         )
     sep, sep_name, decimal_comma = found
-    lines = text.split("\n")
-    header, start = _split_header(lines, sep, decimal_comma)
-    table, width = _parse_rows(lines, start, sep, decimal_comma)
+    header, start, offset = _split_header(text, sep, decimal_comma)
+    table, width = _parse_rows(text, start, offset, sep, decimal_comma)
     rows = table.shape[0]
     if header is not None and len(header) != width:
         header = None  # free text before the data, not column names
@@ -173,29 +214,42 @@ def read_sniffed(
         raise ReaderError(str(exc)) from None
 
 
-def _split_header(lines: list[str], sep: str | None, decimal_comma: bool) -> tuple[list[str] | None, int]:
-    """(column names or None, index of the first data line)."""
+def _split_header(text: str, sep: str | None, decimal_comma: bool) -> tuple[list[str] | None, int, int]:
+    """(column names or None, index of the first data line, where that line starts in ``text``)."""
     header: list[str] | None = None
-    for i, line in enumerate(lines):
-        if not line.strip() or line.lstrip().startswith("#"):
-            continue
-        fields = [f.strip() for f in _split(line, sep)]
-        while fields and fields[-1] == "":
-            fields.pop()
-        if _numeric_fields(fields, decimal_comma):
-            return header, i
-        header = fields
-    raise ReaderError("no data lines found")
+    offset, i = 0, 0
+    while True:
+        end = text.find("\n", offset)
+        line = text[offset:] if end < 0 else text[offset:end]
+        if line.strip() and not line.lstrip().startswith("#"):
+            fields = [f.strip() for f in _split(line, sep)]
+            while fields and fields[-1] == "":
+                fields.pop()
+            if _numeric_fields(fields, decimal_comma):
+                return header, i, offset
+            header = fields
+        if end < 0:
+            raise ReaderError("no data lines found")
+        offset, i = end + 1, i + 1
 
 
 def _parse_rows(
-    lines: list[str], start: int, sep: str | None, decimal_comma: bool
+    text: str, start: int, offset: int, sep: str | None, decimal_comma: bool
 ) -> tuple[NDArray[np.float64], int]:
-    """The data lines from ``lines[start]`` on, all at once with numpy (whole-block tokenising, one
-    conversion call); on any irregularity, a per-line pass finds the line to name."""
+    """The data lines from line ``start`` (at ``offset`` in ``text``) on, all at once with numpy.
+
+    Rows that share one character layout are converted column-wise (:mod:`fixed_layout`); other
+    blocks are tokenised whole and converted in one call; on any irregularity, a per-line pass
+    finds the line to name.
+    """
+    end = text.find("\n", offset)
+    width = len([f for f in _split(text[offset:] if end < 0 else text[offset:end], sep) if f.strip()])
+    body = text[offset:]
+    table = read_fixed_layout(body, sep=sep, decimal_comma=decimal_comma, width=width)
+    if table is not None:
+        return table, width
+    lines = text.split("\n")
     rest = lines[start:]
-    width = len([f for f in _split(rest[0], sep) if f.strip()])
-    body = "\n".join(rest)
     if '"' not in body:
         if "#" in body:
             rows = [ln for ln in rest if ln.strip() and not ln.lstrip().startswith("#")]
