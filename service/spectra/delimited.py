@@ -85,11 +85,16 @@ def sniff(text: str) -> tuple[str | None, str, bool] | None:
 
     Judged on the first 200 data-like lines (blank and ``#`` lines skipped), past any header block.
     """
-    lines = _leading_lines(text, 200)
-    if not lines:
+    tail = _sample(text)
+    if not tail:
         return None
-    tail = lines[len(lines) // 3:] or lines  # past any header block
     return _plain_layout(tail) or _judged_layout(tail)
+
+
+def _sample(text: str) -> list[str]:
+    """The lines the layout is judged on: of the first 200 data-like lines, those past any header block."""
+    lines = _leading_lines(text, 200)
+    return lines[len(lines) // 3:] or lines
 
 
 def _plain_layout(tail: list[str]) -> tuple[str | None, str, bool] | None:
@@ -244,10 +249,17 @@ def _parse_rows(
     """
     end = text.find("\n", offset)
     width = len([f for f in _split(text[offset:] if end < 0 else text[offset:end], sep) if f.strip()])
+    table = read_fixed_layout(text[offset:], sep=sep, decimal_comma=decimal_comma, width=width)
+    if table is None:
+        table = _careful_rows(text, start, offset, sep=sep, decimal_comma=decimal_comma, width=width)
+    return table, width
+
+
+def _careful_rows(
+    text: str, start: int, offset: int, *, sep: str | None, decimal_comma: bool, width: int
+) -> NDArray[np.float64]:
+    """Any data block: tokenised whole and converted in one call when it is regular, else line by line."""
     body = text[offset:]
-    table = read_fixed_layout(body, sep=sep, decimal_comma=decimal_comma, width=width)
-    if table is not None:
-        return table, width
     lines = text.split("\n")
     rest = lines[start:]
     if '"' not in body:
@@ -269,13 +281,13 @@ def _parse_rows(
                 pass
             else:
                 if np.isfinite(values).all():  # 'nan' and 'inf' parse; the slow pass names their line
-                    return values.reshape(n_rows, width), width
+                    return values.reshape(n_rows, width)
     return _parse_rows_by_line(lines, start, sep, decimal_comma, width)
 
 
 def _parse_rows_by_line(
     lines: list[str], start: int, sep: str | None, decimal_comma: bool, width: int
-) -> tuple[NDArray[np.float64], int]:
+) -> NDArray[np.float64]:
     keep = [j for j in range(start, len(lines)) if lines[j].strip() and not lines[j].lstrip().startswith("#")]
     rows = [lines[j] for j in keep]
     for j, line in zip(keep, rows):
@@ -290,7 +302,7 @@ def _parse_rows_by_line(
             raise ReaderError(f"line {j + 1} has {len(fields)} fields but line {keep[0] + 1} has {width}")
     values = [f.strip().replace(",", ".") if decimal_comma else f.strip()
               for r in rows for f in _split(r, sep) if f.strip()]
-    return np.array(values, dtype=np.float64).reshape(len(rows), width), width
+    return np.array(values, dtype=np.float64).reshape(len(rows), width)
 
 
 def _choose_column(width: int, header: list[str] | None, column: str | int | None) -> int:

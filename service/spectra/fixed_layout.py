@@ -19,14 +19,17 @@ which also finds and names any bad line.
 from __future__ import annotations
 
 import re
+from dataclasses import dataclass
+from functools import lru_cache
 
 import numpy as np
 from numpy.typing import NDArray
 
 MAX_DIGITS = 15  # 10**15 < 2**53: every such mantissa, and every partial sum of its digits, is exact
-MAX_RUNS = 8  # beyond this many changes of row length, per-run numpy calls cost more than they save
+MAX_RUNS = 8  # beyond this many runs of equally long rows, per-run numpy calls cost more than they save
 _NL, _ZERO = 10, 48
 _POW10 = 10.0 ** np.arange(MAX_DIGITS + 1)
+_TO_ZERO = str.maketrans("123456789", "000000000")
 _FIELD_BLANKS = " \t"
 # a number as float() reads it, without an exponent, ASCII digits only, with either decimal mark
 _FIELD_DOT = re.compile(r"[+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)")
@@ -51,75 +54,92 @@ def read_fixed_layout(block: str, *, sep: str | None, decimal_comma: bool, width
         return None
     raw = block.rstrip("\n").encode("ascii") + b"\n"
     arr = np.frombuffer(raw, dtype=np.uint8)
-    ends = np.flatnonzero(arr == _NL)
-    lengths = np.diff(ends, prepend=-1)  # each row with its newline
-    cuts = np.flatnonzero(lengths[1:] != lengths[:-1]) + 1
-    if cuts.size >= MAX_RUNS:
-        return None
-    point = "," if decimal_comma else "."
-    bounds = [0, *cuts.tolist(), int(ends.size)]
     parts = []
-    for first, stop in zip(bounds[:-1], bounds[1:]):
-        length = int(lengths[first])
-        offset = int(ends[first]) + 1 - length
-        rows = arr[offset:offset + (stop - first) * length].reshape(stop - first, length)
-        template = raw[offset:offset + length - 1].decode("ascii")
-        values = _run_values(rows, template, sep=sep, point=point, width=width)
-        if values is None:
+    start = 0
+    while start < len(raw):
+        if len(parts) == MAX_RUNS:
             return None
-        parts.append(values)
-    return parts[0] if len(parts) == 1 else np.concatenate(parts)
+        length = raw.index(b"\n", start) + 1 - start  # of the run's first row, with its newline
+        # rows go on as long as a newline closes each after the same length; the layout check
+        # below proves that they are rows (no newline inside, digits and separators in place)
+        closed = arr[start + length - 1::length] == _NL
+        n = int(closed.size if closed.all() else np.argmin(closed))
+        template = raw[start:start + length - 1].decode("ascii")
+        layout = _layout(template.translate(_TO_ZERO), sep=sep, point="," if decimal_comma else ".", width=width)
+        if layout is None:
+            return None
+        rows = arr[start:start + n * length].reshape(n, length)
+        if not (rows - layout.low <= layout.span).all():
+            return None
+        parts.append(layout.values(rows))
+        start += n * length
+    # (rows, fields), each field's column contiguous
+    return (parts[0] if len(parts) == 1 else np.concatenate(parts, axis=1)).T
 
 
-def _run_values(
-    rows: NDArray[np.uint8], template: str, *, sep: str | None, point: str, width: int
-) -> NDArray[np.float64] | None:
-    """Values of a run of equally long rows that all have the layout of ``template`` (the first row)."""
+@dataclass(frozen=True, eq=False)
+class _Layout:
+    """One row layout: what each byte column may hold, and how its digits make the fields."""
+
+    low: NDArray[np.uint8]  # per byte column: '0' where a digit goes, else the byte itself
+    span: NDArray[np.uint8]  # 9 where a digit goes, else 0
+    weights: NDArray[np.float64]  # (fields, byte columns): the place value of each digit in its field
+    offset: NDArray[np.float64]  # (fields, 1): what the '0' bytes (48) add through the weights
+    scale: NDArray[np.float64]  # (fields, 1): 10 ** (digits after the decimal mark)
+    negative: tuple[int, ...]  # the fields written with a minus sign
+
+    def values(self, rows: NDArray[np.uint8]) -> NDArray[np.float64]:
+        """(fields, rows): field by field, so that each step runs along a whole column."""
+        # byte values times place values: sums of non-negative integers below 2**53 (the
+        # largest, fifteen '9' bytes, is 57 * 111111111111111 < 6.4e15), exact in any order
+        out = self.weights @ rows.astype(np.float64).T
+        out -= self.offset  # exact: both are integers below 2**53
+        out /= self.scale  # one correctly rounded division
+        for k in self.negative:
+            np.negative(out[k], out=out[k])  # the sign last, so that "-0.000" is -0.0
+        return out
+
+
+@lru_cache(maxsize=256)
+def _layout(shape: str, *, sep: str | None, point: str, width: int) -> _Layout | None:
+    """The layout of rows like ``shape`` (a row with every digit written as 0); None if its fields
+    are not ``width`` plain numbers of at most 15 digits."""
     blanks = _FIELD_BLANKS if sep is None else _FIELD_BLANKS + sep
     field = _FIELD_COMMA if point == "," else _FIELD_DOT
     spans: list[tuple[int, int]] = []
-    pos = 0
-    n = len(template)
+    pos, n = 0, len(shape)
     while pos < n:
-        if template[pos] in blanks:
+        if shape[pos] in blanks:
             pos += 1
             continue
         end = pos
-        while end < n and template[end] not in blanks:
+        while end < n and shape[end] not in blanks:
             end += 1
-        if not field.fullmatch(template, pos, end):
+        if not field.fullmatch(shape, pos, end):
             return None
         spans.append((pos, end))
         pos = end
     if len(spans) != width:
         return None
-    digit_cols: list[int] = []
-    weights: list[tuple[int, float]] = []  # (field, weight) of each digit column
-    scale = np.ones(width)  # 10 ** (digits after the decimal mark)
-    negative = np.zeros(width, dtype=bool)
+    weights = np.zeros((width, n + 1))  # the last byte column is the newline
+    scale = np.ones((width, 1))
     for k, (a, b) in enumerate(spans):
-        cols = [c for c in range(a, b) if template[c].isdigit()]
+        cols = [c for c in range(a, b) if shape[c] == "0"]
         if len(cols) > MAX_DIGITS:
             return None
-        mark = template.find(point, a, b)
+        mark = shape.find(point, a, b)
         scale[k] = _POW10[sum(1 for c in cols if c > mark)] if mark >= 0 else 1.0
-        negative[k] = template[a] == "-"
-        digit_cols += cols
-        weights += [(k, _POW10[len(cols) - 1 - j]) for j in range(len(cols))]
-    # the layout check: digits where the template has digits, the template's own bytes elsewhere
-    t = rows[0]
-    is_digit = (t >= _ZERO) & (t <= _ZERO + 9)
-    low = np.where(is_digit, _ZERO, t).astype(np.uint8)
-    span = np.where(is_digit, 9, 0).astype(np.uint8)
-    if not (rows - low <= span).all():
-        return None
-    w = np.zeros((len(digit_cols), width))
-    for i, (k, weight) in enumerate(weights):
-        w[i, k] = weight
-    digits = rows[:, digit_cols].astype(np.float64)
-    digits -= _ZERO
-    mantissa = digits @ w  # sums of exact integers below 2**53: exact in any order
-    magnitude = mantissa / scale  # one correctly rounded division
-    if not negative.any():
-        return magnitude
-    return np.where(negative, -magnitude, magnitude)  # the sign last, so that "-0.000" is -0.0
+        weights[k, cols] = _POW10[len(cols) - 1::-1]
+    row = np.frombuffer(shape.encode("ascii") + b"\n", dtype=np.uint8)
+    digit = row == _ZERO
+    layout = _Layout(
+        low=np.where(digit, _ZERO, row).astype(np.uint8),
+        span=np.where(digit, 9, 0).astype(np.uint8),
+        weights=weights,
+        offset=_ZERO * weights.sum(axis=1, keepdims=True),
+        scale=scale,
+        negative=tuple(k for k, (a, _b) in enumerate(spans) if shape[a] == "-"),
+    )
+    for a in (layout.low, layout.span, layout.weights, layout.offset, layout.scale):
+        a.setflags(write=False)  # shared by every file of this layout (the cache)
+    return layout
