@@ -33,7 +33,7 @@ from service.spectra.axis_units import (
     x_unit_label,
     y_kind_from_label,
 )
-from service.spectra.fixed_layout import read_fixed_layout
+from service.spectra.fixed_layout import read_fixed_layout, row_shape
 from service.spectra.model import Spectrum, SpectrumError, SpectrumMeta, YKind
 from service.spectra.reader_errors import ReaderError
 
@@ -74,10 +74,18 @@ def _leading_lines(text: str, n: int) -> list[str]:
         parts = rest.split("\n", want)  # at most ``want`` lines, and the remainder
         more = len(parts) > want
         rest = parts.pop() if more else ""
-        out += [ln for ln in parts if ln.strip() and not ln.lstrip().startswith("#")]
+        out += _data_like(parts)
         if not more:
             break
     return out
+
+
+def _data_like(lines: list[str]) -> list[str]:
+    """The lines that are neither blank nor ``#`` comments (``isspace`` is what ``strip`` strips)."""
+    kept = [ln for ln in lines if ln and not ln.isspace()]
+    if "#" in "".join(kept):
+        kept = [ln for ln in kept if not ln.lstrip().startswith("#")]
+    return kept
 
 
 def sniff(text: str) -> tuple[str | None, str, bool] | None:
@@ -103,14 +111,18 @@ def _plain_layout(tail: list[str]) -> tuple[str | None, str, bool] | None:
     Plain: at least two lines, and every line the same number (two or more) of numbers, split by
     the first separator that occurs at all, with no decimal comma or quotes. Such lines pass the
     first test of the judgement below (every row numeric, every row the same width), so its
-    answer is this one; one regex over the block decides it instead of a regex per field.
+    answer is this one. One regex per distinct row shape (digits written as 0; the regex treats
+    all digits alike) decides it, instead of a regex per field.
     """
     if len(tail) < 2:
         return None
     block = "\n".join(tail)
     sep, name = next((s, n) for s, n in _SEPARATORS if s is None or s in block)
     width = len([f for f in _split(tail[0], sep) if f.strip()])
-    if width < 2 or not _rows_of(sep, width).fullmatch(block):
+    if width < 2:
+        return None
+    row = _row_of(sep, width)
+    if not all(row.fullmatch(shape) for shape in set(row_shape(block).split("\n"))):
         return None
     return sep, name, False
 
@@ -131,21 +143,21 @@ def _judged_layout(tail: list[str]) -> tuple[str | None, str, bool] | None:
 
 
 # _NUM with ASCII digits only, and unambiguous (the fraction needs its point), so that a regex
-# over many fields cannot backtrack into earlier fields at length-product cost
+# over a line of many fields cannot backtrack into earlier fields at length-product cost
 _ASCII_NUM = r"[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?"
 
 
 @lru_cache(maxsize=64)
-def _rows_of(sep: str | None, width: int) -> re.Pattern[str]:
-    """Lines of exactly ``width`` numbers, as ``_split`` and ``_numeric_fields`` read them (with
-    trailing empty fields allowed, as those drop them), blanks around fields; one line per ``\n``."""
+def _row_of(sep: str | None, width: int) -> re.Pattern[str]:
+    """A line of exactly ``width`` numbers, as ``_split`` and ``_numeric_fields`` read it (with
+    trailing empty fields allowed, as those drop them), blanks around fields."""
     if sep is None:
         row = rf"[ \t]*{_ASCII_NUM}(?:[ \t]+{_ASCII_NUM}){{{width - 1}}}[ \t]*"
     else:
         blank = "[ ]*" if sep == "\t" else r"[ \t]*"  # never the separator itself
         s_ = re.escape(sep)
         row = rf"{blank}{_ASCII_NUM}{blank}(?:{s_}{blank}{_ASCII_NUM}{blank}){{{width - 1}}}(?:{s_}{blank})*"
-    return re.compile(rf"(?>{row})(?:\n(?>{row}))*")
+    return re.compile(row)
 
 
 def read_delimited(

@@ -65,16 +65,23 @@ def read_fixed_layout(block: str, *, sep: str | None, decimal_comma: bool, width
         closed = arr[start + length - 1::length] == _NL
         n = int(closed.size if closed.all() else np.argmin(closed))
         template = raw[start:start + length - 1].decode("ascii")
-        layout = _layout(template.translate(_TO_ZERO), sep=sep, point="," if decimal_comma else ".", width=width)
+        layout = _layout(row_shape(template), sep=sep, point="," if decimal_comma else ".", width=width)
         if layout is None:
             return None
         rows = arr[start:start + n * length].reshape(n, length)
-        if not (rows - layout.low <= layout.span).all():
-            return None
+        fits = rows - layout.low <= layout.span
+        if not fits.all():  # the run ends at the first row of another layout (e.g. another sign)
+            n = int(np.argmin(fits.all(axis=1)))
+            rows = rows[:n]
         parts.append(layout.values(rows))
         start += n * length
     # (rows, fields), each field's column contiguous
     return (parts[0] if len(parts) == 1 else np.concatenate(parts, axis=1)).T
+
+
+def row_shape(text: str) -> str:
+    """The text with every ASCII digit written as 0: rows of one layout have one shape."""
+    return text.translate(_TO_ZERO)
 
 
 @dataclass(frozen=True, eq=False)
