@@ -17,6 +17,7 @@ from __future__ import annotations
 import csv
 import io
 import re
+from functools import lru_cache
 
 import numpy as np
 from numpy.typing import NDArray
@@ -32,6 +33,7 @@ from service.spectra.axis_units import (
     x_unit_label,
     y_kind_from_label,
 )
+from service.spectra.fixed_layout import read_fixed_layout, row_shape
 from service.spectra.model import Spectrum, SpectrumError, SpectrumMeta, YKind
 from service.spectra.reader_errors import ReaderError
 
@@ -66,16 +68,24 @@ def _numeric_fields(fields: list[str], decimal_comma: bool) -> bool:
 def _leading_lines(text: str, n: int) -> list[str]:
     """The first ``n`` lines that are neither blank nor ``#`` comments, without splitting the whole text."""
     out: list[str] = []
-    start = 0
+    rest = text
     while len(out) < n:
-        end = text.find("\n", start)
-        line = text[start:] if end < 0 else text[start:end]
-        if line.strip() and not line.lstrip().startswith("#"):
-            out.append(line)
-        if end < 0:
+        want = n - len(out)
+        parts = rest.split("\n", want)  # at most ``want`` lines, and the remainder
+        more = len(parts) > want
+        rest = parts.pop() if more else ""
+        out += _data_like(parts)
+        if not more:
             break
-        start = end + 1
     return out
+
+
+def _data_like(lines: list[str]) -> list[str]:
+    """The lines that are neither blank nor ``#`` comments (``isspace`` is what ``strip`` strips)."""
+    kept = [ln for ln in lines if ln and not ln.isspace()]
+    if "#" in "".join(kept):
+        kept = [ln for ln in kept if not ln.lstrip().startswith("#")]
+    return kept
 
 
 def sniff(text: str) -> tuple[str | None, str, bool] | None:
@@ -83,10 +93,41 @@ def sniff(text: str) -> tuple[str | None, str, bool] | None:
 
     Judged on the first 200 data-like lines (blank and ``#`` lines skipped), past any header block.
     """
-    lines = _leading_lines(text, 200)
-    if not lines:
+    tail = _sample(text)
+    if not tail:
         return None
-    tail = lines[len(lines) // 3:] or lines  # past any header block
+    return _plain_layout(tail) or _judged_layout(tail)
+
+
+def _sample(text: str) -> list[str]:
+    """The lines the layout is judged on: of the first 200 data-like lines, those past any header block."""
+    lines = _leading_lines(text, 200)
+    return lines[len(lines) // 3:] or lines
+
+
+def _plain_layout(tail: list[str]) -> tuple[str | None, str, bool] | None:
+    """What :func:`_judged_layout` finds, when the lines make it plain; None when they do not.
+
+    Plain: at least two lines, and every line the same number (two or more) of numbers, split by
+    the first separator that occurs at all, with no decimal comma or quotes. Such lines pass the
+    first test of the judgement below (every row numeric, every row the same width), so its
+    answer is this one. One regex per distinct row shape (digits written as 0; the regex treats
+    all digits alike) decides it, instead of a regex per field.
+    """
+    if len(tail) < 2:
+        return None
+    block = "\n".join(tail)
+    sep, name = next((s, n) for s, n in _SEPARATORS if s is None or s in block)
+    width = len([f for f in _split(tail[0], sep) if f.strip()])
+    if width < 2:
+        return None
+    row = _row_of(sep, width)
+    if not all(row.fullmatch(shape) for shape in set(row_shape(block).split("\n"))):
+        return None
+    return sep, name, False
+
+
+def _judged_layout(tail: list[str]) -> tuple[str | None, str, bool] | None:
     for sep, name in _SEPARATORS:
         if sep is not None and not any(sep in ln for ln in tail):
             continue  # every row would be one field: cannot be columns
@@ -99,6 +140,24 @@ def sniff(text: str) -> tuple[str | None, str, bool] | None:
                 if widths.count(common) >= 0.9 * len(widths):
                     return sep, name, decimal_comma
     return None
+
+
+# _NUM with ASCII digits only, and unambiguous (the fraction needs its point), so that a regex
+# over a line of many fields cannot backtrack into earlier fields at length-product cost
+_ASCII_NUM = r"[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]+)?"
+
+
+@lru_cache(maxsize=64)
+def _row_of(sep: str | None, width: int) -> re.Pattern[str]:
+    """A line of exactly ``width`` numbers, as ``_split`` and ``_numeric_fields`` read it (with
+    trailing empty fields allowed, as those drop them), blanks around fields."""
+    if sep is None:
+        row = rf"[ \t]*{_ASCII_NUM}(?:[ \t]+{_ASCII_NUM}){{{width - 1}}}[ \t]*"
+    else:
+        blank = "[ ]*" if sep == "\t" else r"[ \t]*"  # never the separator itself
+        s_ = re.escape(sep)
+        row = rf"{blank}{_ASCII_NUM}{blank}(?:{s_}{blank}{_ASCII_NUM}{blank}){{{width - 1}}}(?:{s_}{blank})*"
+    return re.compile(row)
 
 
 def read_delimited(
@@ -145,9 +204,8 @@ def read_sniffed(
             "separated by comma, semicolon, tab or blanks"
         )
     sep, sep_name, decimal_comma = found
-    lines = text.split("\n")
-    header, start = _split_header(lines, sep, decimal_comma)
-    table, width = _parse_rows(lines, start, sep, decimal_comma)
+    header, start, offset = _split_header(text, sep, decimal_comma)
+    table, width = _parse_rows(text, start, offset, sep, decimal_comma)
     rows = table.shape[0]
     if header is not None and len(header) != width:
         header = None  # free text before the data, not column names
@@ -173,29 +231,49 @@ def read_sniffed(
         raise ReaderError(str(exc)) from None
 
 
-def _split_header(lines: list[str], sep: str | None, decimal_comma: bool) -> tuple[list[str] | None, int]:
-    """(column names or None, index of the first data line)."""
+def _split_header(text: str, sep: str | None, decimal_comma: bool) -> tuple[list[str] | None, int, int]:
+    """(column names or None, index of the first data line, where that line starts in ``text``)."""
     header: list[str] | None = None
-    for i, line in enumerate(lines):
-        if not line.strip() or line.lstrip().startswith("#"):
-            continue
-        fields = [f.strip() for f in _split(line, sep)]
-        while fields and fields[-1] == "":
-            fields.pop()
-        if _numeric_fields(fields, decimal_comma):
-            return header, i
-        header = fields
-    raise ReaderError("no data lines found")
+    offset, i = 0, 0
+    while True:
+        end = text.find("\n", offset)
+        line = text[offset:] if end < 0 else text[offset:end]
+        if line.strip() and not line.lstrip().startswith("#"):
+            fields = [f.strip() for f in _split(line, sep)]
+            while fields and fields[-1] == "":
+                fields.pop()
+            if _numeric_fields(fields, decimal_comma):
+                return header, i, offset
+            header = fields
+        if end < 0:
+            raise ReaderError("no data lines found")
+        offset, i = end + 1, i + 1
 
 
 def _parse_rows(
-    lines: list[str], start: int, sep: str | None, decimal_comma: bool
+    text: str, start: int, offset: int, sep: str | None, decimal_comma: bool
 ) -> tuple[NDArray[np.float64], int]:
-    """The data lines from ``lines[start]`` on, all at once with numpy (whole-block tokenising, one
-    conversion call); on any irregularity, a per-line pass finds the line to name."""
+    """The data lines from line ``start`` (at ``offset`` in ``text``) on, all at once with numpy.
+
+    Rows that share one character layout are converted column-wise (:mod:`fixed_layout`); other
+    blocks are tokenised whole and converted in one call; on any irregularity, a per-line pass
+    finds the line to name.
+    """
+    end = text.find("\n", offset)
+    width = len([f for f in _split(text[offset:] if end < 0 else text[offset:end], sep) if f.strip()])
+    table = read_fixed_layout(text[offset:], sep=sep, decimal_comma=decimal_comma, width=width)
+    if table is None:
+        table = _careful_rows(text, start, offset, sep=sep, decimal_comma=decimal_comma, width=width)
+    return table, width
+
+
+def _careful_rows(
+    text: str, start: int, offset: int, *, sep: str | None, decimal_comma: bool, width: int
+) -> NDArray[np.float64]:
+    """Any data block: tokenised whole and converted in one call when it is regular, else line by line."""
+    body = text[offset:]
+    lines = text.split("\n")
     rest = lines[start:]
-    width = len([f for f in _split(rest[0], sep) if f.strip()])
-    body = "\n".join(rest)
     if '"' not in body:
         if "#" in body:
             rows = [ln for ln in rest if ln.strip() and not ln.lstrip().startswith("#")]
@@ -215,13 +293,13 @@ def _parse_rows(
                 pass
             else:
                 if np.isfinite(values).all():  # 'nan' and 'inf' parse; the slow pass names their line
-                    return values.reshape(n_rows, width), width
+                    return values.reshape(n_rows, width)
     return _parse_rows_by_line(lines, start, sep, decimal_comma, width)
 
 
 def _parse_rows_by_line(
     lines: list[str], start: int, sep: str | None, decimal_comma: bool, width: int
-) -> tuple[NDArray[np.float64], int]:
+) -> NDArray[np.float64]:
     keep = [j for j in range(start, len(lines)) if lines[j].strip() and not lines[j].lstrip().startswith("#")]
     rows = [lines[j] for j in keep]
     for j, line in zip(keep, rows):
@@ -236,7 +314,7 @@ def _parse_rows_by_line(
             raise ReaderError(f"line {j + 1} has {len(fields)} fields but line {keep[0] + 1} has {width}")
     values = [f.strip().replace(",", ".") if decimal_comma else f.strip()
               for r in rows for f in _split(r, sep) if f.strip()]
-    return np.array(values, dtype=np.float64).reshape(len(rows), width), width
+    return np.array(values, dtype=np.float64).reshape(len(rows), width)
 
 
 def _choose_column(width: int, header: list[str] | None, column: str | int | None) -> int:

@@ -112,9 +112,15 @@ class Spectrum:
                 f"{int(bad.sum())} non-finite value(s), first at point {i + 1} (x={xa[i]!r}, y={ya[i]!r}); "
                 "export the spectrum again without blanks or NaN"
             )
-        order = np.argsort(xa, kind="stable")
-        xs, ys = xa[order], ya[order]
-        dx = np.diff(xs)
+        dx = np.diff(xa)
+        if (dx > 0).all():  # already ascending (a stable sort would change nothing)
+            xs, ys = xa, ya
+        elif (dx < 0).all():  # strictly descending, as many exports: the sort is a reversal
+            xs, ys, dx = xa[::-1], ya[::-1], -dx[::-1]
+        else:
+            order = np.argsort(xa, kind="stable")
+            xs, ys = xa[order], ya[order]
+            dx = np.diff(xs)
         if (dx <= 0).any():
             i = int(np.flatnonzero(dx <= 0)[0])
             raise SpectrumError(
