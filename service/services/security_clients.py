@@ -94,12 +94,12 @@ def client_for_token(engine: Engine, token: str | None, *, now: datetime | None 
         return None
     now = now or utc_now()
     with UnitOfWork(engine, write=False) as uow:
-        found = repo.active_token(uow.session, digest(token))
+        found = repo.active_token(uow.connection, digest(token))
     if found is None:
         return None
     if found.last_used_at is None or now - found.last_used_at >= LAST_USED_EVERY:
         with UnitOfWork(engine, write=False) as uow:
-            repo.touch_token(uow.session, found.token_id, now)
+            repo.touch_token(uow.connection, found.token_id, now)
             uow.commit()
     return ApiClient(client_id=found.client_id, name=found.client_name, scopes=frozenset(found.scopes),
                      token_id=found.token_id)
