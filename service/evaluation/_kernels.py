@@ -14,7 +14,14 @@ from functools import lru_cache
 import numpy as np
 from numpy.typing import NDArray
 
-from service.spectra import Band, BandClasses, SavitzkyGolay, baseline_rubberband, find_bands
+from service.spectra import (
+    Band,
+    BandClasses,
+    SavitzkyGolay,
+    asls_second_difference,
+    baseline_rubberband,
+    find_bands,
+)
 
 F64 = NDArray[np.float64]
 
@@ -30,21 +37,11 @@ def baseline(x: F64, y: F64, *, method: str, lam: float, p: float, stride: int =
     points than the stride, and the fit costs ``stride`` times less.
     """
     if method == "asls":
-        ys = y[::stride]
-        base, _ = _asls_solver(ys.size).asls(ys, lam=lam / stride**4, p=p)
-        base = np.asarray(base, dtype=np.float64)
+        base, _ = asls_second_difference(y[::stride], lam=lam / stride**4, p=p)
         return base if stride == 1 else np.interp(x, x[::stride], base)
     if method == "rubberband":
         return baseline_rubberband(x, y).baseline
     return np.zeros_like(y)
-
-
-@lru_cache(maxsize=32)
-def _asls_solver(n: int):  # type: ignore[no-untyped-def]
-    """One pybaselines fitter per grid size: its set-up is then paid once, not per spectrum."""
-    from pybaselines import Baseline
-
-    return Baseline(x_data=np.arange(n, dtype=np.float64))
 
 
 @lru_cache(maxsize=32)
