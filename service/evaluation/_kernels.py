@@ -25,7 +25,7 @@ from service.spectra import (
 
 F64 = NDArray[np.float64]
 
-__all__ = ["Band", "all_bands", "baseline", "centred_unit", "noise_rms", "savgol_derivative", "unit"]
+__all__ = ["Band", "all_bands", "baseline", "centred_unit", "noise_rms", "noise_rms_between", "savgol_derivative", "unit"]
 
 
 def baseline(x: F64, y: F64, *, method: str, lam: float, p: float, stride: int = 1) -> F64:
@@ -90,6 +90,11 @@ def noise_rms(x: F64, y: F64, *, lo: float = 2000.0, hi: float = 2200.0) -> floa
     i0, i1 = int(np.searchsorted(x, lo)), int(np.searchsorted(x, hi, side="right"))
     if i1 - i0 < 10:
         return None
+    return noise_rms_between(y, i0, i1)
+
+
+def noise_rms_between(y: F64, i0: int, i1: int) -> float:
+    """:func:`noise_rms` of the points ``y[i0:i1]`` (at least 3)."""
     seg = y[i0:i1]
     d2 = seg[:-2] - 2.0 * seg[1:-1] + seg[2:]
     return float(np.sqrt(np.mean(d2 * d2) / 6.0))

@@ -22,11 +22,10 @@ from service.evaluation.method import (
     as_absorbance,
     prepare,
     score,
-    spectrum_data_digest,
-    spectrum_spacing,
+    spectrum_facts,
 )
 from service.evaluation.result import Criterion, Evaluation, Match, Notice
-from service.evaluation.sample_quality import judge_quality
+from service.evaluation.sample_quality import judge_quality, quality_plan_for
 from service.evaluation.specification import Specification
 from service.spectra.model import Spectrum
 
@@ -120,7 +119,8 @@ def evaluate(sample: Spectrum, spec: Specification, reference: Spectrum, library
                 f"the {who} was prepared as {prep} but the specification requires {spec.preparation}: "
                 "sample and reference must be prepared the same way")))
 
-    ref_digest, sample_digest = spectrum_data_digest(reference), spectrum_data_digest(sample)
+    ref_facts, sample_facts = spectrum_facts(reference), spectrum_facts(sample)
+    ref_digest, sample_digest = ref_facts.digest, sample_facts.digest
     ref: Prepared | None = None
     try:
         ref, ref_notices = _prepared_reference(reference, ref_digest, spec, method)
@@ -136,9 +136,10 @@ def evaluate(sample: Spectrum, spec: Specification, reference: Spectrum, library
         invalid.append(Notice(code="wrong-range", message=f"sample: {exc}; measure over the full range"))
 
     matches: tuple[Match, ...] | None = None
-    s_step, r_step = spectrum_spacing(sample), spectrum_spacing(reference)
+    s_step, r_step = sample_facts.spacing, ref_facts.spacing
     if prepared is not None:
-        q_criteria, q_warnings, q_invalid = judge_quality(absorbance, prepared, spec)
+        plan = quality_plan_for(absorbance.x, method, axis_key=sample_facts.axis_key)
+        q_criteria, q_warnings, q_invalid = judge_quality(absorbance, prepared, spec, plan=plan)
         criteria += q_criteria
         warnings += q_warnings
         invalid += q_invalid

@@ -24,12 +24,13 @@ import numpy as np
 from numpy.typing import NDArray
 
 from service.evaluation import _kernels as k
+from service.evaluation._axis import axis_spacing
 from service.evaluation.specification import Specification
 from service.spectra import to_absorbance
 from service.spectra.model import Spectrum, YKind
 
-__all__ = ["Method", "Prepared", "RangeNotCovered", "finish", "metric_vector", "prepare", "score",
-           "spectrum_data_digest", "spectrum_spacing"]
+__all__ = ["Method", "Prepared", "RangeNotCovered", "SpectrumFacts", "finish", "metric_vector", "prepare", "score",
+           "spectrum_data_digest", "spectrum_facts", "spectrum_spacing"]
 
 F64 = NDArray[np.float64]
 
@@ -169,16 +170,29 @@ class Prepared:
     data_sha256: str
 
 
-_facts: "weakref.WeakKeyDictionary[Spectrum, tuple[str, float]]" = weakref.WeakKeyDictionary()
+@dataclass(frozen=True)
+class SpectrumFacts:
+    """What the evaluator remembers per spectrum object: data digest, median spacing, axis key."""
+
+    digest: str  # SHA-256 (hex) of the kind, then x and y as little-endian float64
+    spacing: float  # median point spacing, cm⁻¹
+    axis_key: bytes  # SHA-256 of the kind and x alone: the key of everything that depends only on the axis
 
 
-def _spectrum_facts(s: Spectrum) -> tuple[str, float]:
+_facts: "weakref.WeakKeyDictionary[Spectrum, SpectrumFacts]" = weakref.WeakKeyDictionary()
+
+
+def spectrum_facts(s: Spectrum) -> SpectrumFacts:
+    """The :class:`SpectrumFacts` of ``s``: spectra are immutable, so they are remembered per object,
+    and the spacing per axis (one instrument sends the same axis with every file)."""
     found = _facts.get(s)
     if found is None:
         h = hashlib.sha256(s.kind.value.encode())
-        h.update(np.ascontiguousarray(s.x, dtype="<f8").tobytes())
-        h.update(np.ascontiguousarray(s.y, dtype="<f8").tobytes())
-        found = _facts[s] = (h.hexdigest(), s.spacing_cm1)
+        h.update(np.ascontiguousarray(s.x, dtype="<f8"))
+        axis_key = h.copy().digest()
+        h.update(np.ascontiguousarray(s.y, dtype="<f8"))
+        found = _facts[s] = SpectrumFacts(digest=h.hexdigest(), spacing=axis_spacing(axis_key, s.x),
+                                          axis_key=axis_key)
     return found
 
 
@@ -187,12 +201,12 @@ def spectrum_data_digest(s: Spectrum) -> str:
 
     Spectra are immutable, so the digest is remembered per object.
     """
-    return _spectrum_facts(s)[0]
+    return spectrum_facts(s).digest
 
 
 def spectrum_spacing(s: Spectrum) -> float:
     """Median point spacing (cm⁻¹), remembered per object like the digest."""
-    return _spectrum_facts(s)[1]
+    return spectrum_facts(s).spacing
 
 
 def as_absorbance(s: Spectrum) -> Spectrum:
