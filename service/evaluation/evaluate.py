@@ -1,8 +1,9 @@
 """``evaluate(sample, spec, reference, library=None)``: the identity decision and its evidence.
 
 The same method prepares sample and reference (Ph. Eur. 2.2.24, ASTM E1252); the prepared
-reference is cached by the hash of its data and the method, so a stream of samples against one
-reference pays its preparation once. The verdict is ``invalid`` when the measurement cannot be
+reference and its check against the specification are cached by the hash of its data, the method
+and the specification's digest, so a stream of samples against one reference pays its
+preparation once. The verdict is ``invalid`` when the measurement cannot be
 judged (quality, range, preparation), ``fail`` when any criterion fails, otherwise ``pass``.
 """
 
@@ -50,7 +51,8 @@ def _describe(s: Spectrum, digest: str, spacing: float) -> dict[str, Any]:
 
 def _prepared_reference(reference: Spectrum, digest: str, spec: Specification, method: Method
                         ) -> tuple[Prepared, tuple[Notice, ...]]:
-    key = (digest, method, spec.required_bands, spec.forbidden_bands)
+    # the self-check reads the specification's band rules and quality limits: key on the whole document
+    key = (digest, method, spec.digest())
     with _cache_lock:
         hit = _cache.get(key)
         if hit is not None:
