@@ -25,7 +25,8 @@ from service.spectra import (
 
 F64 = NDArray[np.float64]
 
-__all__ = ["Band", "all_bands", "baseline", "centred_unit", "noise_rms", "noise_rms_between", "savgol_derivative", "unit"]
+__all__ = ["Band", "all_bands", "baseline", "centred_unit", "noise_rms", "noise_rms_between", "savgol_derivative",
+           "unit"]
 
 
 def baseline(x: F64, y: F64, *, method: str, lam: float, p: float, stride: int = 1) -> F64:

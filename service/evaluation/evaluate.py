@@ -70,7 +70,7 @@ def _prepared_reference(reference: Spectrum, digest: str, spec: Specification, m
 def _reference_self_check(ref: Prepared, spec: Specification) -> tuple[Notice, ...]:
     """The reference should meet its own specification (bands, saturation); if not, say so on every result."""
     out = []
-    keep = ~ref.method.excluded_mask
+    keep = ref.method.kept_mask
     top = float(ref.resampled[keep].max()) if keep.any() else float(ref.resampled.max())
     if top > spec.quality.max_absorbance:
         out.append(Notice(code="reference-saturated", message=(

@@ -100,6 +100,17 @@ class Method:
         return m
 
     @cached_property
+    def kept_mask(self) -> NDArray[np.bool_]:
+        """True where the grid lies outside every excluded region (``~excluded_mask``)."""
+        m = ~self.excluded_mask
+        m.setflags(write=False)
+        return m
+
+    def kept_between(self, lo: float, hi: float) -> NDArray[np.intp]:
+        """Grid indices with ``lo <= grid <= hi`` outside the excluded regions (remembered per window)."""
+        return _kept_between(self, float(lo), float(hi))
+
+    @cached_property
     def compared(self) -> NDArray[np.intp]:
         """Grid indices compared by the fingerprint metric: inside the regions, outside the exclusions."""
         g = self.grid
@@ -154,6 +165,14 @@ class Method:
 @lru_cache(maxsize=128)
 def _method_for(spec: Specification) -> Method:
     return Method._build(spec)
+
+
+@lru_cache(maxsize=256)
+def _kept_between(method: Method, lo: float, hi: float) -> NDArray[np.intp]:
+    g = method.grid
+    idx = np.flatnonzero((g >= lo) & (g <= hi) & method.kept_mask)
+    idx.setflags(write=False)
+    return idx
 
 
 @dataclass(frozen=True, eq=False, kw_only=True)
@@ -238,7 +257,7 @@ def finish(y: F64, method: Method, digest: str = "") -> Prepared:
     corrected = y - k.baseline(grid, y, method=method.baseline, lam=method.asls_lam, p=method.asls_p,
                                stride=method.asls_stride)
     final = corrected * (grid / method.atr_reference_cm1) if method.atr_correction else corrected
-    bands, reference_height = k.all_bands(grid, final, ~method.excluded_mask, detection_floor=DETECTION_FLOOR)
+    bands, reference_height = k.all_bands(grid, final, method.kept_mask, detection_floor=DETECTION_FLOOR)
     vector = metric_vector(final, method)
     for a in (y, corrected, final, vector):
         a.setflags(write=False)

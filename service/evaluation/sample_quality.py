@@ -88,7 +88,7 @@ def judge_quality(absorbance: Spectrum, prepared: Prepared, spec: Specification,
             f"the strongest band reaches absorbance {top:.2f} at {top_at:.0f} cm⁻¹, above {q.max_absorbance:g}: "
             "bands this strong are distorted; use less sample, a thinner film or less ATR pressure and measure again")))
 
-    keep = ~method.excluded_mask
+    keep = method.kept_mask
     kept = prepared.corrected[keep]
     signal = float(kept.max()) if kept.size else 0.0
     ok = signal >= q.min_absorbance
