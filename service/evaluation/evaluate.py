@@ -13,6 +13,8 @@ import threading
 from collections import OrderedDict
 from typing import Any
 
+import numpy as np
+
 from service import __version__
 from service.evaluation.criteria import judge_forbidden, judge_required
 from service.evaluation.library import ReferenceLibrary
@@ -197,9 +199,15 @@ def _specificity(prepared: Prepared, own: float, spec: Specification, library: R
                  top: int) -> tuple[Criterion, tuple[Match, ...]]:
     view = library.view(method)
     higher = method.metric != "euclidean"
-    ranked = view.rank(prepared.vector, top=len(view))
-    others = [m for m in ranked if m.material != spec.material]
-    best = others[0] if others else None
+    scores = view.scores(prepared.vector)
+    order = np.argsort(scores if not higher else -scores, kind="stable").tolist()  # the full ranking, best first
+    codes = view.codes
+
+    def match(rank: int, i: int) -> Match:
+        return Match(rank=rank, material=codes[i], score=float(scores[i]), metric=method.metric)
+
+    first_other = next((r for r, i in enumerate(order) if codes[i] != spec.material), None)
+    best = None if first_other is None else match(first_other + 1, order[first_other])
     mixed = best is not None and (best.score >= own if higher else best.score <= own)
     details: dict[str, Any] = {
         "specified_reference_score": own, "metric": method.metric, "library_size": len(view),
@@ -220,4 +228,4 @@ def _specificity(prepared: Prepared, own: float, spec: Specification, library: R
     crit = Criterion(kind="specificity", label="specificity (mix-up check against the library)",
                      outcome="fail" if mixed else "pass", measured=measured, limit=0.0, comparison=">",
                      unit="score margin over the closest other material", message=msg, details=details)
-    return crit, tuple(ranked[:top])
+    return crit, tuple(match(r + 1, i) for r, i in enumerate(order[:top]))
