@@ -167,7 +167,7 @@ def _method_for(spec: Specification) -> Method:
     return Method._build(spec)
 
 
-@lru_cache(maxsize=256)
+@lru_cache(maxsize=64)
 def _kept_between(method: Method, lo: float, hi: float) -> NDArray[np.intp]:
     g = method.grid
     idx = np.flatnonzero((g >= lo) & (g <= hi) & method.kept_mask)
