@@ -20,7 +20,7 @@ from typing import Any, TypeVar
 import numpy as np
 from numpy.typing import NDArray
 
-__all__ = ["QualityPlan", "axis_spacing", "median", "quality_plan"]
+__all__ = ["QualityPlan", "axis_spacing", "clear", "make_quality_plan", "median", "quality_plan"]
 
 _SIZE = 32
 T = TypeVar("T")

@@ -189,7 +189,7 @@ class Prepared:
     data_sha256: str
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, kw_only=True)
 class SpectrumFacts:
     """What the evaluator remembers per spectrum object: data digest, median spacing, axis key."""
 
