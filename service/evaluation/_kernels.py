@@ -14,11 +14,19 @@ from functools import lru_cache
 import numpy as np
 from numpy.typing import NDArray
 
-from service.spectra import Band, BandClasses, SavitzkyGolay, baseline_rubberband, find_bands
+from service.spectra import (
+    Band,
+    BandClasses,
+    SavitzkyGolay,
+    asls_second_difference,
+    baseline_rubberband,
+    find_bands,
+)
 
 F64 = NDArray[np.float64]
 
-__all__ = ["Band", "all_bands", "baseline", "centred_unit", "noise_rms", "savgol_derivative", "unit"]
+__all__ = ["Band", "all_bands", "baseline", "centred_unit", "noise_rms", "noise_rms_between", "savgol_derivative",
+           "unit"]
 
 
 def baseline(x: F64, y: F64, *, method: str, lam: float, p: float, stride: int = 1) -> F64:
@@ -30,21 +38,11 @@ def baseline(x: F64, y: F64, *, method: str, lam: float, p: float, stride: int =
     points than the stride, and the fit costs ``stride`` times less.
     """
     if method == "asls":
-        ys = y[::stride]
-        base, _ = _asls_solver(ys.size).asls(ys, lam=lam / stride**4, p=p)
-        base = np.asarray(base, dtype=np.float64)
+        base, _ = asls_second_difference(y[::stride], lam=lam / stride**4, p=p)
         return base if stride == 1 else np.interp(x, x[::stride], base)
     if method == "rubberband":
         return baseline_rubberband(x, y).baseline
     return np.zeros_like(y)
-
-
-@lru_cache(maxsize=32)
-def _asls_solver(n: int):  # type: ignore[no-untyped-def]
-    """One pybaselines fitter per grid size: its set-up is then paid once, not per spectrum."""
-    from pybaselines import Baseline
-
-    return Baseline(x_data=np.arange(n, dtype=np.float64))
 
 
 @lru_cache(maxsize=32)
@@ -93,6 +91,11 @@ def noise_rms(x: F64, y: F64, *, lo: float = 2000.0, hi: float = 2200.0) -> floa
     i0, i1 = int(np.searchsorted(x, lo)), int(np.searchsorted(x, hi, side="right"))
     if i1 - i0 < 10:
         return None
+    return noise_rms_between(y, i0, i1)
+
+
+def noise_rms_between(y: F64, i0: int, i1: int) -> float:
+    """:func:`noise_rms` of the points ``y[i0:i1]`` (at least 3)."""
     seg = y[i0:i1]
     d2 = seg[:-2] - 2.0 * seg[1:-1] + seg[2:]
     return float(np.sqrt(np.mean(d2 * d2) / 6.0))

@@ -98,10 +98,10 @@ def judge_forbidden(p: Prepared, rule: ForbiddenBand) -> tuple[Criterion, list[N
     lo, hi = rule.window
     found = bands_outside_exclusions(p, lo, hi)
     measured = found[0].relative_intensity if found else 0.0
-    g = p.method.grid
-    sel = (g >= lo) & (g <= hi) & ~p.method.excluded_mask
-    strongest = float(p.final[sel].max()) if sel.any() else float("nan")
-    where = float(g[sel][int(np.argmax(p.final[sel]))]) if sel.any() else float("nan")
+    sel = p.method.kept_between(lo, hi)
+    values = p.final[sel]
+    strongest = float(values.max()) if sel.size else float("nan")
+    where = float(p.method.grid[sel[int(np.argmax(values))]]) if sel.size else float("nan")
     ok = measured <= rule.max_relative_intensity
     details: dict[str, Any] = {
         "window_cm1": [hi, lo], "bands_in_window": len(found),

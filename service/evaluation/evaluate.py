@@ -1,8 +1,9 @@
 """``evaluate(sample, spec, reference, library=None)``: the identity decision and its evidence.
 
 The same method prepares sample and reference (Ph. Eur. 2.2.24, ASTM E1252); the prepared
-reference is cached by the hash of its data and the method, so a stream of samples against one
-reference pays its preparation once. The verdict is ``invalid`` when the measurement cannot be
+reference and its check against the specification are cached by the hash of its data, the method
+and the specification's digest, so a stream of samples against one reference pays its
+preparation once. The verdict is ``invalid`` when the measurement cannot be
 judged (quality, range, preparation), ``fail`` when any criterion fails, otherwise ``pass``.
 """
 
@@ -11,6 +12,8 @@ from __future__ import annotations
 import threading
 from collections import OrderedDict
 from typing import Any
+
+import numpy as np
 
 from service import __version__
 from service.evaluation.criteria import judge_forbidden, judge_required
@@ -22,11 +25,10 @@ from service.evaluation.method import (
     as_absorbance,
     prepare,
     score,
-    spectrum_data_digest,
-    spectrum_spacing,
+    spectrum_facts,
 )
 from service.evaluation.result import Criterion, Evaluation, Match, Notice
-from service.evaluation.sample_quality import judge_quality
+from service.evaluation.sample_quality import judge_quality, quality_plan_for
 from service.evaluation.specification import Specification
 from service.spectra.model import Spectrum
 
@@ -51,7 +53,8 @@ def _describe(s: Spectrum, digest: str, spacing: float) -> dict[str, Any]:
 
 def _prepared_reference(reference: Spectrum, digest: str, spec: Specification, method: Method
                         ) -> tuple[Prepared, tuple[Notice, ...]]:
-    key = (digest, method, spec.required_bands, spec.forbidden_bands)
+    # the self-check reads the specification's band rules and quality limits: key on the whole document
+    key = (digest, method, spec.digest())
     with _cache_lock:
         hit = _cache.get(key)
         if hit is not None:
@@ -69,7 +72,7 @@ def _prepared_reference(reference: Spectrum, digest: str, spec: Specification, m
 def _reference_self_check(ref: Prepared, spec: Specification) -> tuple[Notice, ...]:
     """The reference should meet its own specification (bands, saturation); if not, say so on every result."""
     out = []
-    keep = ~ref.method.excluded_mask
+    keep = ref.method.kept_mask
     top = float(ref.resampled[keep].max()) if keep.any() else float(ref.resampled.max())
     if top > spec.quality.max_absorbance:
         out.append(Notice(code="reference-saturated", message=(
@@ -120,7 +123,8 @@ def evaluate(sample: Spectrum, spec: Specification, reference: Spectrum, library
                 f"the {who} was prepared as {prep} but the specification requires {spec.preparation}: "
                 "sample and reference must be prepared the same way")))
 
-    ref_digest, sample_digest = spectrum_data_digest(reference), spectrum_data_digest(sample)
+    ref_facts, sample_facts = spectrum_facts(reference), spectrum_facts(sample)
+    ref_digest, sample_digest = ref_facts.digest, sample_facts.digest
     ref: Prepared | None = None
     try:
         ref, ref_notices = _prepared_reference(reference, ref_digest, spec, method)
@@ -136,9 +140,10 @@ def evaluate(sample: Spectrum, spec: Specification, reference: Spectrum, library
         invalid.append(Notice(code="wrong-range", message=f"sample: {exc}; measure over the full range"))
 
     matches: tuple[Match, ...] | None = None
-    s_step, r_step = spectrum_spacing(sample), spectrum_spacing(reference)
+    s_step, r_step = sample_facts.spacing, ref_facts.spacing
     if prepared is not None:
-        q_criteria, q_warnings, q_invalid = judge_quality(absorbance, prepared, spec)
+        plan = quality_plan_for(absorbance.x, method, axis_key=sample_facts.axis_key)
+        q_criteria, q_warnings, q_invalid = judge_quality(absorbance, prepared, spec, plan=plan)
         criteria += q_criteria
         warnings += q_warnings
         invalid += q_invalid
@@ -194,9 +199,15 @@ def _specificity(prepared: Prepared, own: float, spec: Specification, library: R
                  top: int) -> tuple[Criterion, tuple[Match, ...]]:
     view = library.view(method)
     higher = method.metric != "euclidean"
-    ranked = view.rank(prepared.vector, top=len(view))
-    others = [m for m in ranked if m.material != spec.material]
-    best = others[0] if others else None
+    scores = view.scores(prepared.vector)
+    order = np.argsort(scores if not higher else -scores, kind="stable").tolist()  # the full ranking, best first
+    codes = view.codes
+
+    def match(rank: int, i: int) -> Match:
+        return Match(rank=rank, material=codes[i], score=float(scores[i]), metric=method.metric)
+
+    first_other = next((r for r, i in enumerate(order) if codes[i] != spec.material), None)
+    best = None if first_other is None else match(first_other + 1, order[first_other])
     mixed = best is not None and (best.score >= own if higher else best.score <= own)
     details: dict[str, Any] = {
         "specified_reference_score": own, "metric": method.metric, "library_size": len(view),
@@ -217,4 +228,4 @@ def _specificity(prepared: Prepared, own: float, spec: Specification, library: R
     crit = Criterion(kind="specificity", label="specificity (mix-up check against the library)",
                      outcome="fail" if mixed else "pass", measured=measured, limit=0.0, comparison=">",
                      unit="score margin over the closest other material", message=msg, details=details)
-    return crit, tuple(ranked[:top])
+    return crit, tuple(match(r + 1, i) for r, i in enumerate(order[:top]))

@@ -24,12 +24,13 @@ import numpy as np
 from numpy.typing import NDArray
 
 from service.evaluation import _kernels as k
+from service.evaluation._axis import axis_spacing
 from service.evaluation.specification import Specification
 from service.spectra import to_absorbance
 from service.spectra.model import Spectrum, YKind
 
-__all__ = ["Method", "Prepared", "RangeNotCovered", "finish", "metric_vector", "prepare", "score",
-           "spectrum_data_digest", "spectrum_spacing"]
+__all__ = ["Method", "Prepared", "RangeNotCovered", "SpectrumFacts", "finish", "metric_vector", "prepare", "score",
+           "spectrum_data_digest", "spectrum_facts", "spectrum_spacing"]
 
 F64 = NDArray[np.float64]
 
@@ -99,6 +100,17 @@ class Method:
         return m
 
     @cached_property
+    def kept_mask(self) -> NDArray[np.bool_]:
+        """True where the grid lies outside every excluded region (``~excluded_mask``)."""
+        m = ~self.excluded_mask
+        m.setflags(write=False)
+        return m
+
+    def kept_between(self, lo: float, hi: float) -> NDArray[np.intp]:
+        """Grid indices with ``lo <= grid <= hi`` outside the excluded regions (remembered per window)."""
+        return _kept_between(self, float(lo), float(hi))
+
+    @cached_property
     def compared(self) -> NDArray[np.intp]:
         """Grid indices compared by the fingerprint metric: inside the regions, outside the exclusions."""
         g = self.grid
@@ -155,6 +167,14 @@ def _method_for(spec: Specification) -> Method:
     return Method._build(spec)
 
 
+@lru_cache(maxsize=64)
+def _kept_between(method: Method, lo: float, hi: float) -> NDArray[np.intp]:
+    g = method.grid
+    idx = np.flatnonzero((g >= lo) & (g <= hi) & method.kept_mask)
+    idx.setflags(write=False)
+    return idx
+
+
 @dataclass(frozen=True, eq=False, kw_only=True)
 class Prepared:
     """A spectrum after the method: on the grid, baseline-corrected, with its metric vector."""
@@ -169,16 +189,29 @@ class Prepared:
     data_sha256: str
 
 
-_facts: "weakref.WeakKeyDictionary[Spectrum, tuple[str, float]]" = weakref.WeakKeyDictionary()
+@dataclass(frozen=True, kw_only=True)
+class SpectrumFacts:
+    """What the evaluator remembers per spectrum object: data digest, median spacing, axis key."""
+
+    digest: str  # SHA-256 (hex) of the kind, then x and y as little-endian float64
+    spacing: float  # median point spacing, cm⁻¹
+    axis_key: bytes  # SHA-256 of the kind and x alone: the key of everything that depends only on the axis
 
 
-def _spectrum_facts(s: Spectrum) -> tuple[str, float]:
+_facts: "weakref.WeakKeyDictionary[Spectrum, SpectrumFacts]" = weakref.WeakKeyDictionary()
+
+
+def spectrum_facts(s: Spectrum) -> SpectrumFacts:
+    """The :class:`SpectrumFacts` of ``s``: spectra are immutable, so they are remembered per object,
+    and the spacing per axis (one instrument sends the same axis with every file)."""
     found = _facts.get(s)
     if found is None:
         h = hashlib.sha256(s.kind.value.encode())
-        h.update(np.ascontiguousarray(s.x, dtype="<f8").tobytes())
-        h.update(np.ascontiguousarray(s.y, dtype="<f8").tobytes())
-        found = _facts[s] = (h.hexdigest(), s.spacing_cm1)
+        h.update(np.ascontiguousarray(s.x, dtype="<f8"))
+        axis_key = h.copy().digest()
+        h.update(np.ascontiguousarray(s.y, dtype="<f8"))
+        found = _facts[s] = SpectrumFacts(digest=h.hexdigest(), spacing=axis_spacing(axis_key, s.x),
+                                          axis_key=axis_key)
     return found
 
 
@@ -187,12 +220,12 @@ def spectrum_data_digest(s: Spectrum) -> str:
 
     Spectra are immutable, so the digest is remembered per object.
     """
-    return _spectrum_facts(s)[0]
+    return spectrum_facts(s).digest
 
 
 def spectrum_spacing(s: Spectrum) -> float:
     """Median point spacing (cm⁻¹), remembered per object like the digest."""
-    return _spectrum_facts(s)[1]
+    return spectrum_facts(s).spacing
 
 
 def as_absorbance(s: Spectrum) -> Spectrum:
@@ -224,7 +257,7 @@ def finish(y: F64, method: Method, digest: str = "") -> Prepared:
     corrected = y - k.baseline(grid, y, method=method.baseline, lam=method.asls_lam, p=method.asls_p,
                                stride=method.asls_stride)
     final = corrected * (grid / method.atr_reference_cm1) if method.atr_correction else corrected
-    bands, reference_height = k.all_bands(grid, final, ~method.excluded_mask, detection_floor=DETECTION_FLOOR)
+    bands, reference_height = k.all_bands(grid, final, method.kept_mask, detection_floor=DETECTION_FLOOR)
     vector = metric_vector(final, method)
     for a in (y, corrected, final, vector):
         a.setflags(write=False)

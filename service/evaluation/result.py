@@ -18,7 +18,25 @@ CAUTION = ("A computed pass is advice to qualified staff, not a release: the dec
 
 
 def json_safe(value: Any) -> Any:
-    """Plain JSON values: floats rounded to 6 significant digits, NaN/inf as None, tuples as lists."""
+    """Plain JSON values: floats rounded to 6 significant digits, NaN/inf as None, tuples as lists.
+
+    The plain built-in types are dispatched on their exact type (the common case, and the cost of
+    every stored document); anything else (numpy scalars, subclasses) goes through
+    :func:`_json_safe_other`, whose rules are the same.
+    """
+    kind = type(value)
+    if kind is float:
+        return float(f"{value:.6g}") if math.isfinite(value) else None
+    if kind is str or kind is int or kind is bool or value is None:
+        return value
+    if kind is dict:
+        return {str(k): json_safe(v) for k, v in value.items()}
+    if kind is list or kind is tuple:
+        return [json_safe(v) for v in value]
+    return _json_safe_other(value)
+
+
+def _json_safe_other(value: Any) -> Any:
     if isinstance(value, bool) or value is None or isinstance(value, str):
         return value
     if isinstance(value, int):

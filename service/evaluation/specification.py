@@ -158,10 +158,14 @@ class Specification:
 
     def excluded_regions(self) -> tuple[ExcludedRegion, ...]:
         """The preparation's default exclusions plus the specification's own, clipped to the range."""
-        lo, hi = self.window
-        own = tuple(ExcludedRegion(lo=min(a, b), hi=max(a, b), reason="excluded by the specification",
-                                   source="specification") for a, b in self.exclude)
-        return tuple(r for r in excluded_regions(self.preparation, self.solvent) + own if r.overlaps(lo, hi))
+        found = self.__dict__.get("_excluded_regions")
+        if found is None:  # frozen, and the regions are frozen too: remembered once, outside the fields
+            lo, hi = self.window
+            own = tuple(ExcludedRegion(lo=min(a, b), hi=max(a, b), reason="excluded by the specification",
+                                       source="specification") for a, b in self.exclude)
+            found = tuple(r for r in excluded_regions(self.preparation, self.solvent) + own if r.overlaps(lo, hi))
+            object.__setattr__(self, "_excluded_regions", found)
+        return found  # type: ignore[no-any-return]
 
     def fingerprint_regions(self) -> tuple[tuple[float, float], ...]:
         """The regions compared, as ``(lo, hi)``; exclusions are masked inside them in any case."""

@@ -3,7 +3,13 @@ band measurement, similarity and instrument checks. Imports nothing from the web
 
 from service.spectra.axis_units import XUnit
 from service.spectra.bands import Band, BandClasses, find_bands, parabolic_offset
-from service.spectra.baseline import BaselineResult, baseline_arpls, baseline_asls, baseline_rubberband
+from service.spectra.baseline import (
+    BaselineResult,
+    asls_second_difference,
+    baseline_arpls,
+    baseline_asls,
+    baseline_rubberband,
+)
 from service.spectra.conversion import to_absorbance, to_percent_transmittance, to_transmittance
 from service.spectra.delimited import read_delimited
 from service.spectra.jcamp_reader import JcampBlock, Peak, PeakTable, read_jcamp_blocks
@@ -68,6 +74,7 @@ __all__ = [
     "Step",
     "XUnit",
     "YKind",
+    "asls_second_difference",
     "assess_quality",
     "atr_correct",
     "baseline_arpls",

@@ -67,16 +67,21 @@ def parabolic_offset(y_left: float, y_centre: float, y_right: float) -> float:
 
 
 def _positions(x: NDArray[np.float64], y: NDArray[np.float64], peaks: NDArray[np.intp]) -> NDArray[np.float64]:
-    pos = x[peaks].astype(np.float64)
+    """:func:`parabolic_offset` at every maximum, in one pass (maxima at either end keep their point)."""
+    pos = x[peaks]
     inner = (peaks > 0) & (peaks < x.size - 1)
-    p = peaks[inner]
+    every = bool(inner.all())
+    p = peaks if every else peaks[inner]
     yl, y0, yr = y[p - 1], y[p], y[p + 1]
     denom = yl - 2.0 * y0 + yr
-    with np.errstate(divide="ignore", invalid="ignore"):
-        delta = np.where(denom != 0.0, 0.5 * (yl - yr) / denom, 0.0)
-    delta = np.clip(delta, -0.5, 0.5)
-    step = np.where(delta >= 0, x[p + 1] - x[p], x[p] - x[p - 1])
-    pos[inner] = x[p] + delta * step
+    delta = np.divide(0.5 * (yl - yr), denom, out=np.zeros(p.size), where=denom != 0.0)
+    np.minimum(np.maximum(delta, -0.5, out=delta), 0.5, out=delta)
+    xp = x[p]
+    step = np.where(delta >= 0, x[p + 1] - xp, xp - x[p - 1])
+    refined = xp + delta * step
+    if every:
+        return refined
+    pos[inner] = refined
     return pos
 
 

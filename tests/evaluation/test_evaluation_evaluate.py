@@ -195,3 +195,14 @@ def test_a_saturated_reference_is_warned_about() -> None:
     strong = synthetic([(c, h * 2.0, w) for c, h, w in ESTER_BANDS], seed=2)
     e = evaluate(synthetic(ESTER_BANDS, seed=1), spec(), strong)
     assert "reference-saturated" in [w.code for w in e.warnings]
+
+
+def test_the_cached_reference_check_follows_the_specification_it_was_made_for() -> None:
+    # Two specifications alike but for the saturation limit: the reference (strongest band ~1.8) is
+    # saturated under the first only. The prepared reference is cached; its self-check must not be.
+    strong = synthetic([(c, h * 2.0, w) for c, h, w in ESTER_BANDS], seed=2)
+    sample = synthetic(ESTER_BANDS, seed=1)
+    strict = evaluate(sample, spec(), strong)
+    lenient = evaluate(sample, spec(quality={"max_absorbance": 2.5, "min_absorbance": 0.1}), strong)
+    assert "reference-saturated" in [w.code for w in strict.warnings]
+    assert "reference-saturated" not in [w.code for w in lenient.warnings]

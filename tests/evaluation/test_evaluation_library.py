@@ -90,3 +90,36 @@ def test_references_not_covering_the_range_are_skipped_and_named(make_spectrum: 
     lib = ReferenceLibrary.build([("FULL", make_spectrum([(1000.0, 0.5, 15.0)])), ("SHORT", short)])
     view = lib.view(method)
     assert view.codes == ("FULL",) and view.skipped == ("SHORT",)
+
+
+def _specificity_oracle(view: LibraryView, vector: np.ndarray, material: str, top: int):  # type: ignore[no-untyped-def]
+    """The whole library ranked as Match objects, the first of another material picked from the list."""
+    ranked = view.rank(vector, top=len(view))
+    others = [m for m in ranked if m.material != material]
+    return (others[0] if others else None), tuple(ranked[:top])
+
+
+@pytest.mark.parametrize("metric", ["pearson", "first-derivative", "euclidean"])
+@pytest.mark.parametrize("top", [0, 1, 5, 50, -1])
+def test_specificity_ranks_as_the_full_list_of_matches_does(metric: str, top: int) -> None:
+    from evaluation_factories import ESTER_BANDS, synthetic
+
+    from service.evaluation import parse_specification
+    from service.evaluation.evaluate import _specificity
+
+    spec = parse_specification({"material": "ESTER", "name": "synthetic ester", "version": 1,
+                                "preparation": "atr-znse", "range": [3800, 650],
+                                "fingerprint": {"metric": metric, "min_score": 0.9} if metric != "euclidean"
+                                else {"metric": metric, "max_distance": 0.5}})
+    method = Method.for_specification(spec)
+    ester, other = synthetic(ESTER_BANDS, seed=1), synthetic(ESTER_BANDS[:-3] + [(1100.0, 0.5, 30.0)], seed=2)
+    entries = [("OTHER", other), ("ESTER", ester), ("TWIN", ester), ("OTHER", other), ("ESTER", ester)]  # ties
+    for library in (ReferenceLibrary.build(entries), ReferenceLibrary.build([("ESTER", ester)]),
+                    ReferenceLibrary.build([])):
+        view = library.view(method)
+        sample = prepare(synthetic(ESTER_BANDS, seed=3), method)
+        crit, matches = _specificity(sample, 0.97, spec, library, method, top)
+        best, want = _specificity_oracle(view, sample.vector, "ESTER", top)
+        assert matches == want
+        assert crit.details["closest_other_material"] == (best.material if best else None)
+        assert crit.details["closest_other_score"] == (best.score if best else None)

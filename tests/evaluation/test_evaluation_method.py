@@ -73,3 +73,16 @@ def test_a_cached_reference_gives_the_same_record_as_a_fresh_one() -> None:
     fresh = evaluate(sample, spec, reference).as_dict()
     warm = evaluate(sample, spec, reference).as_dict()
     assert fresh == warm
+
+
+@pytest.mark.parametrize(("lo", "hi"), [(2210.0, 2260.0), (2200.0, 2300.0), (2300.0, 2350.0), (650.0, 3800.0),
+                                        (3649.5, 3700.0), (100.0, 200.0)])
+def test_kept_indices_of_a_window_are_the_points_checked_one_by_one(lo: float, hi: float) -> None:
+    m = Method(lo=650.0, hi=3800.0, excluded=EXCLUDED)
+    want = [i for i, g in enumerate(m.grid.tolist())
+            if lo <= g <= hi and not any(a <= g <= b for a, b in EXCLUDED)]
+    assert m.kept_between(lo, hi).tolist() == want
+    assert m.kept_between(lo, hi) is m.kept_between(lo, hi)  # remembered
+    assert not m.kept_between(lo, hi).flags.writeable and not m.kept_mask.flags.writeable
+    other = Method(lo=650.0, hi=3800.0, excluded=())  # another method: its own answer
+    assert other.kept_between(lo, hi).tolist() == [i for i, g in enumerate(other.grid.tolist()) if lo <= g <= hi]

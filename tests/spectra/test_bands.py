@@ -82,3 +82,26 @@ def test_centroid_position_of_a_symmetric_band() -> None:
     assert band.position_cm1 == pytest.approx(1715.3, abs=0.05)
     with pytest.raises(InvalidInput):
         find_bands(X, y, position_method="peak")
+
+
+def _positions_oracle(x, y, peaks):  # type: ignore[no-untyped-def]
+    """Each maximum on its own: the parabola's vertex offset (parabolic_offset) times the spacing on its side."""
+    out = []
+    for i in peaks.tolist():
+        if 0 < i < x.size - 1:
+            d = parabolic_offset(float(y[i - 1]), float(y[i]), float(y[i + 1]))
+            out.append(float(x[i]) + d * float(x[i + 1] - x[i] if d >= 0 else x[i] - x[i - 1]))
+        else:
+            out.append(float(x[i]))
+    return np.array(out)
+
+
+@pytest.mark.parametrize("seed", range(6))
+def test_vectorised_positions_match_one_parabola_at_a_time(seed) -> None:
+    from service.spectra.bands import _positions
+
+    rng = np.random.default_rng(seed)
+    x = np.cumsum(rng.uniform(0.5, 2.0, 300)) + 400.0
+    y = np.round(rng.normal(size=300), 1 if seed % 2 else 6)  # rounding makes flat tops (zero denominators)
+    peaks = np.unique(np.r_[0, 299, rng.integers(0, 300, 40)]) if seed < 3 else np.unique(rng.integers(1, 299, 40))
+    assert_allclose(_positions(x, y, peaks), _positions_oracle(x, y, peaks), rtol=0, atol=0)
