@@ -25,8 +25,13 @@ def _plain(value: Any) -> Any:
 
 
 class _View:
+    # Fields that hold JSON parsed from a stored document: plain already, passed on as they are
+    # (not walked value by value; treat them as read-only).
+    _json_fields: frozenset[str] = frozenset()
+
     def as_dict(self) -> dict[str, Any]:
-        return {f.name: _plain(getattr(self, f.name)) for f in dataclasses.fields(self)}  # type: ignore[arg-type]
+        return {f.name: getattr(self, f.name) if f.name in self._json_fields else _plain(getattr(self, f.name))
+                for f in dataclasses.fields(self)}  # type: ignore[arg-type]
 
 
 def utc(value: datetime | None) -> datetime | None:
@@ -145,6 +150,7 @@ class SignatureView(_View):
 
 @dataclass(frozen=True, kw_only=True)
 class EvaluationView(_View):
+    _json_fields = frozenset({"document"})  # parsed from the stored canonical JSON
     id: int
     verdict: str
     document: dict[str, Any]
