@@ -11,6 +11,7 @@ from service.release.actor import Actor
 from service.store import repositories as repo
 from service.store.tables import Material, Supplier, SupplierApproval, User, utc_now
 from service.store.unit_of_work import UnitOfWork
+from service.store.upload_records import UserRow
 from service.services import _shared as sh
 from service.services.views import MaterialView, SupplierApprovalView, SupplierView, UserView, utc
 
@@ -32,7 +33,7 @@ def user_view(u: User) -> UserView:
                     created_at=utc(u.created_at) or u.created_at)
 
 
-def actor_for(u: User) -> Actor:
+def actor_for(u: User | UserRow) -> Actor:
     return Actor(user_id=u.id or 0, username=u.username, printed_name=u.printed_name,
                  roles=frozenset(r for r in u.roles.split(",") if r))
 

@@ -165,11 +165,10 @@ def _operator(conn: Connection, operator: Actor | NamedOperator) -> Actor:
     if isinstance(operator, Actor):
         return operator
     from service.services.api_requests import checked_operator
+    from service.services.catalog import actor_for
 
     row = rows.active_user(conn, (operator.username or "").strip().lower())
-    found = None if row is None else Actor(user_id=row.id, username=row.username, printed_name=row.printed_name,
-                                           roles=frozenset(r for r in row.roles.split(",") if r))
-    return checked_operator(operator.username, found)
+    return checked_operator(operator.username, None if row is None else actor_for(row))
 
 
 @dataclass(frozen=True)

@@ -9,7 +9,6 @@ from sqlalchemy import bindparam, func
 from sqlmodel import Session, col, select
 
 from service.release.digests import sha256_hex
-from service.store import upload_records
 from service.store.tables import (
     Evaluation, Instrument, InstrumentCheck, Lot, LotContainer, LotDecision, Material, Measurement,
     MeasurementInvalidation, ReferenceSpectrum, Signature, SpecificationVersion, StoredFile, Supplier,
@@ -17,31 +16,19 @@ from service.store.tables import (
 )
 
 
-# Statements on the upload path are built once, with bound parameters: building a select and
-# computing its cache key costs more than running it on SQLite, and a reused statement object keeps
-# its cache key (SQLAlchemy memoises it), so each call goes straight to the compiled-SQL cache.
+# Frequent statements are built once, with bound parameters: building a select and computing its
+# cache key costs more than running it on SQLite, and a reused statement object keeps its cache key
+# (SQLAlchemy memoises it), so each call goes straight to the compiled-SQL cache. (The upload path's
+# own statements are in `upload_records.py`.)
 _LOT_BY_CODE = select(Lot).where(Lot.code == bindparam("code"))
-_CONTAINER_BY_NUMBER = select(LotContainer).where(LotContainer.lot_id == bindparam("lot_id"),
-                                                  LotContainer.number == bindparam("number"))
 _INSTRUMENT_BY_CODE = select(Instrument).where(Instrument.code == bindparam("code"))
 _APPROVED_SPEC = (select(SpecificationVersion)
                   .where(SpecificationVersion.material_id == bindparam("material_id"),
                          SpecificationVersion.status == "approved")
                   .order_by(col(SpecificationVersion.version).desc()).limit(1))
-_APPROVED_REFERENCE_ANY = (select(ReferenceSpectrum)
-                           .where(ReferenceSpectrum.material_id == bindparam("material_id"),
-                                  ReferenceSpectrum.status == "approved")
-                           .order_by(col(ReferenceSpectrum.id).desc()).limit(1))
-_APPROVED_REFERENCE_PREP = (select(ReferenceSpectrum)
-                            .where(ReferenceSpectrum.material_id == bindparam("material_id"),
-                                   ReferenceSpectrum.status == "approved",
-                                   ReferenceSpectrum.preparation == bindparam("preparation"))
-                            .order_by(col(ReferenceSpectrum.id).desc()).limit(1))
 _REFERENCES_BY_STATUS = (select(ReferenceSpectrum).where(ReferenceSpectrum.status == bindparam("status"))
                          .order_by(col(ReferenceSpectrum.id)))
 _MATERIALS = select(Material).order_by(col(Material.code))
-_MEASUREMENTS_FOR_CONTAINER = (select(Measurement).where(Measurement.container_id == bindparam("container_id"))
-                               .order_by(col(Measurement.id)))
 _INVALIDATIONS_FOR = (select(MeasurementInvalidation)
                       .where(col(MeasurementInvalidation.measurement_id).in_(bindparam("ids", expanding=True))))
 _USER_BY_USERNAME = select(User).where(User.username == bindparam("username"))
@@ -140,18 +127,6 @@ def references(session: Session, material_id: int | None = None, status: str | N
     return list(session.exec(q.order_by(col(ReferenceSpectrum.id))).all())
 
 
-def library_entries(session: Session) -> list[tuple[int, str, str]]:
-    """(reference id, material code, SHA-256) of every approved reference, in id order: one plain row each."""
-    return upload_records.library_entries(session.connection())
-
-
-def approved_reference(session: Session, material_id: int, preparation: str | None) -> ReferenceSpectrum | None:
-    if preparation:
-        return session.exec(_APPROVED_REFERENCE_PREP,
-                            params={"material_id": material_id, "preparation": preparation}).first()
-    return session.exec(_APPROVED_REFERENCE_ANY, params={"material_id": material_id}).first()
-
-
 def instrument_by_code(session: Session, code: str) -> Instrument | None:
     return session.exec(_INSTRUMENT_BY_CODE, params={"code": code}).first()
 
@@ -212,10 +187,6 @@ def list_lots(session: Session, *, state: str | None = None, material_id: int | 
 def containers(session: Session, lot_id: int) -> list[LotContainer]:
     return list(session.exec(select(LotContainer).where(LotContainer.lot_id == lot_id)
                              .order_by(col(LotContainer.number))).all())
-
-
-def container_by_number(session: Session, lot_id: int, number: int) -> LotContainer | None:
-    return session.exec(_CONTAINER_BY_NUMBER, params={"lot_id": lot_id, "number": number}).first()
 
 
 def measurements_for_lot(session: Session, lot_id: int) -> list[Measurement]:
@@ -285,27 +256,6 @@ def lot_by_id(session: Session, lot_id: int) -> Lot | None:
     return session.get(Lot, lot_id)
 
 
-_CURRENT_RESULTS = (
-    "FROM lot_containers c "
-    "LEFT JOIN measurements m ON m.container_id = c.id AND m.status = 'accepted' "
-    "AND NOT EXISTS (SELECT 1 FROM measurement_invalidations i WHERE i.measurement_id = m.id) "
-    "LEFT JOIN evaluations e ON e.measurement_id = m.id "
-)
-
-
-def container_verdicts(session: Session, container_id: int) -> list[str]:
-    """Verdicts of the container's current (accepted, evaluated, not invalidated) measurements."""
-    from sqlalchemy import text
-
-    rows = session.connection().execute(text(
-        "SELECT e.verdict " + _CURRENT_RESULTS + "WHERE c.id = :c AND e.verdict IS NOT NULL ORDER BY m.id"),
-        {"c": container_id}).all()
-    return [str(r[0]) for r in rows]
-
-
-def lot_progress(session: Session, lot_id: int) -> tuple[int, int, int]:
-    """(containers in the plan, of them with a pass or fail result, of them failed) -- one aggregate query."""
-    return upload_records.lot_progress(session.connection(), lot_id)
 
 
 def operators_of_lot(session: Session, lot_id: int) -> set[int]:
@@ -318,5 +268,3 @@ def lot_states(session: Session) -> dict[int, tuple[str, str]]:
     return {int(i): (c, st) for i, c, st in session.exec(select(Lot.id, Lot.code, Lot.state)).all()}
 
 
-def measurements_for_container(session: Session, container_id: int) -> list[Measurement]:
-    return list(session.exec(_MEASUREMENTS_FOR_CONTAINER, params={"container_id": container_id}).all())
