@@ -30,6 +30,7 @@ from service import __version__
 from service.errors import BandgateError, Conflict, FieldProblem, InvalidInput, NotFound, UnusableInput
 from service.release.actor import Actor
 from service.release.digests import canonical_json, sha256_hex
+from service.release.permissions import Action, person_may
 from service.release.lot_states import (
     ContainerOutcome, LotState, LotStep, container_outcome, next_state, outcome_from_counts,
 )
@@ -161,29 +162,44 @@ class NamedOperator:
     username: str
 
 
+def _checked_operator(username: str, actor: Actor | None) -> Actor:
+    """``actor`` (the active user found under ``username``, or None) if they may be named as operator."""
+    if actor is None:
+        raise InvalidInput(
+            f"no active user {username!r} to name as operator; give the username of the person who measured",
+            fields=[FieldProblem("operator", "username of an active person")],
+        )
+    if not person_may(actor.roles, Action.record_measurement):
+        raise InvalidInput(
+            f"{actor.printed_name} ({actor.username}) has no role that records measurements; "
+            "name the technician who measured",
+            fields=[FieldProblem("operator", "a person whose role records measurements")],
+        )
+    return actor
+
+
 def _operator(conn: Connection, operator: Actor | NamedOperator) -> Actor:
     if isinstance(operator, Actor):
         return operator
-    from service.services.api_requests import checked_operator
     from service.services.catalog import actor_for
 
     row = rows.active_user(conn, (operator.username or "").strip().lower())
-    return checked_operator(operator.username, None if row is None else actor_for(row))
+    return _checked_operator(operator.username, None if row is None else actor_for(row))
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, kw_only=True)
 class _Basis:
     """What an evaluation rests on: the approved spec and reference, read before the write lock."""
 
-    spec_id: int | None
-    spec_version: int | None
-    spec_doc: dict | None
-    spec_text: str | None
-    ref_id: int | None
-    ref_preparation: str | None
-    reference: Any
-    library: Any
-    missing: str | None
+    spec_id: int | None = None
+    spec_version: int | None = None
+    spec_doc: dict | None = None
+    spec_text: str | None = None
+    ref_id: int | None = None
+    ref_preparation: str | None = None
+    reference: Any = None
+    library: Any = None
+    missing: str | None = None  # why nothing can be evaluated against it, if so
 
 
 def _preparation(doc: dict[str, Any]) -> str | None:
@@ -194,13 +210,14 @@ def _preparation(doc: dict[str, Any]) -> str | None:
 def _basis(conn: Connection, material_id: int) -> _Basis:
     spec_row = rows.approved_spec(conn, material_id)
     if spec_row is None:
-        return _Basis(None, None, None, None, None, None, None, None,
-                      "the material has no approved specification; the quality unit must approve one first")
+        return _Basis(missing="the material has no approved specification; the quality unit must approve one first")
     doc = evaluator.stored_document(spec_row.document)
+    spec = {"spec_id": spec_row.id, "spec_version": spec_row.version, "spec_doc": doc, "spec_text": spec_row.document}
     ref_row = rows.approved_reference(conn, material_id, _preparation(doc))
     if ref_row is None:
-        return _Basis(spec_row.id, spec_row.version, doc, spec_row.document, None, None, None, None,
-                      "the material has no approved reference spectrum; the quality unit must approve one first")
+        return _Basis(**spec, missing="the material has no approved reference spectrum; the quality unit must "
+                                      "approve one first")
+    ref = {"ref_id": ref_row.id, "ref_preparation": ref_row.preparation}
 
     def load_ref(ref_id: int) -> tuple[bytes, str]:
         return rows.reference_file(conn, ref_id)
@@ -210,10 +227,8 @@ def _basis(conn: Connection, material_id: int) -> _Basis:
         reference = evaluator.reference_spectrum(ref_row.sha256, lambda: load_ref(ref_row.id))
         library = evaluator.library_for(entries, load_ref)
     except BandgateError as exc:
-        return _Basis(spec_row.id, spec_row.version, doc, spec_row.document, ref_row.id, ref_row.preparation,
-                      None, None, f"the approved reference cannot be used: {exc.message}")
-    return _Basis(spec_row.id, spec_row.version, doc, spec_row.document, ref_row.id, ref_row.preparation,
-                  reference, library, None)
+        return _Basis(**spec, **ref, missing=f"the approved reference cannot be used: {exc.message}")
+    return _Basis(**spec, **ref, reference=reference, library=library)
 
 
 def _basis_changed(conn: Connection, material_id: int, basis: _Basis) -> str | None:

@@ -50,10 +50,6 @@ def event_fields(ev: AuditEvent) -> dict[str, Any]:
                    old_values=ev.old_values, new_values=ev.new_values, reason=ev.reason)
 
 
-def last_event(session: Session) -> AuditEvent | None:
-    return session.exec(select(AuditEvent).order_by(col(AuditEvent.seq).desc()).limit(1)).first()
-
-
 # Built once: the head of the chain and the insert are on every write path.
 _TABLE = AuditEvent.__table__
 _HEAD = select(_TABLE.c.seq, _TABLE.c.hash).order_by(_TABLE.c.seq.desc()).limit(1)
