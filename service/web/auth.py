@@ -33,6 +33,7 @@ from service.security.session_rules import SessionRules
 from service.security.tokens import csrf_matches, csrf_token
 from service.services.security_clients import ApiClient, client_for_token
 from service.services.security_sessions import SignedIn, current_session
+from service.web.work_placement import run_database_work
 
 SESSION_COOKIE = "bandgate_session"
 CSRF_FIELD = "csrf_token"
@@ -152,11 +153,14 @@ async def _check_csrf(request: Request, person: SignedIn) -> None:
                           "try again. Nothing was changed")
 
 
-async def _looked_up(request: Request, key: str, look_up: Any) -> Any:
+async def _looked_up(request: Request, key: str, look_up: Any, *, may_run_in_place: bool = False) -> Any:
     """The caller found once per request (the guard runs before the body is read and again as a
-    dependency): a database look-up in the thread pool the first time, the kept answer after."""
+    dependency): a database look-up the first time, the kept answer after. The look-up runs in the
+    thread pool, or, if ``may_run_in_place``, where `work_placement` puts short database work."""
     if hasattr(request.state, key):
         return getattr(request.state, key)
+    if may_run_in_place:
+        return await run_database_work(request.app.state.engine, lambda: look_up(request))
     return await run_in_threadpool(look_up, request)
 
 
@@ -169,7 +173,7 @@ def require_action(action: Action) -> Any:
             return Principal()
         bearer = _bearer(request)
         if bearer is not None:
-            client = await _looked_up(request, "bandgate_client", current_client)
+            client = await _looked_up(request, "bandgate_client", current_client, may_run_in_place=True)
             if client is None:
                 raise NotAuthenticated("the bearer token is not recognised or was revoked; "
                                        "ask an administrator for a token (`bandgate token create`)")

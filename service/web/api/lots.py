@@ -18,6 +18,7 @@ from service.web.api.problems import WRITE, problems
 from service.web.api.schemas import CAUTION, LOT_CREATE_EXAMPLE, LotCreate, LotOut, LotSummary, MeasurementOut, Page
 from service.web.api.uploads import check_text, read_upload
 from service.web.errors import PROBLEM_BASE
+from service.web.work_placement import run_database_work
 
 router = APIRouter(tags=["lots"], route_class=ApiRoute)
 
@@ -100,7 +101,7 @@ MEASUREMENT_FORM_EXAMPLE = {"container": 1, "instrument": "FTIR-02", "operator":
     "refused and answered `409`. Both problem answers carry the stored `measurement`. Honours `Idempotency-Key`.",
     openapi_extra={"requestBody": {"content": {"multipart/form-data": {"example": MEASUREMENT_FORM_EXAMPLE}}}},
 )
-def upload_measurement(
+async def upload_measurement(
     code: str, request: Request,
     principal: Annotated[Principal, require_action(Action.record_measurement)],
     file: Annotated[UploadFile, File(description="the spectrum (JCAMP-DX or CSV)")],
@@ -136,7 +137,8 @@ def upload_measurement(
         return Answer(status_code=201, body=measurement_body(view, lot_state=lot_state),
                       headers={"Location": f"/api/v1/measurements/{view.id}"})
 
-    return Write(request, principal, payload).run(act)
+    write = Write(request, principal, payload)
+    return await run_database_work(engine, lambda: write.run(act), payload_bytes=len(upload.data))
 
 
 def _recorded_problem(request: Request, exc: Any, status: int) -> Answer:

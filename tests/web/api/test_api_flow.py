@@ -164,3 +164,18 @@ def test_catalogue_create_and_read(lab: Lab) -> None:
     # a read-only token cannot create
     r = c.post("/api/v1/materials", json={"code": "SYN-X", "name": "x"}, headers=lab.auth(lab.read_token))
     assert r.status_code == 403
+
+
+def test_a_large_high_resolution_file_is_read_and_evaluated_off_the_event_loop(lab: Lab) -> None:
+    """A file above the in-place size (service.web.work_placement) takes the thread-pool path; the
+    answer is the same kind as for a small file."""
+    from service.web.work_placement import IN_PLACE_MAX_BYTES
+
+    data = spectrum_csv(ESTER_BANDS, seed=13, points=34_001)  # 0.1 cm-1 spacing, about 720 KB
+    assert len(data) > IN_PLACE_MAX_BYTES
+    code = _receive(lab, containers=1)["code"]
+    r = upload(lab, code, container=1, data=data)
+    assert r.status_code == 201, r.text
+    m = r.json()
+    assert m["sha256"] == hashlib.sha256(data).hexdigest() and m["size"] == len(data)
+    assert m["verdict"] == "pass" and m["lot_state"] == "awaiting_disposition"
