@@ -5,6 +5,7 @@ from __future__ import annotations
 import json
 from dataclasses import dataclass
 from datetime import date
+from typing import Any
 
 from sqlalchemy.engine import Engine
 from sqlmodel import Session
@@ -15,7 +16,7 @@ from service.release.digests import canonical_json
 from service.release.lot_states import STATE_LABELS, ContainerOutcome, ContainerResult, LotState, container_outcome
 from service.release.sampling import MAX_CONTAINERS, compute_plan
 from service.store import repositories as repo
-from service.store.tables import Lot, LotContainer, Measurement, utc_now
+from service.store.tables import Lot, LotContainer, utc_now
 from service.store.unit_of_work import UnitOfWork
 from service.services import _shared as sh
 from service.services.views import ContainerView, EvaluationView, LotView, MeasurementView, utc
@@ -132,14 +133,24 @@ def evidence(session: Session, lot: Lot, *, with_documents: bool = True) -> _Evi
     return _Evidence(containers_out, results, views, {m.operator_id for m in ms})
 
 
-def measurement_view(m: Measurement, *, lot_code: str, container: int, instrument: str, operator: str,
+def measurement_view(m: Any, *, lot_code: str, container: int, instrument: str, operator: str,
                      evaluation: object, spec_version: int | None, invalidation_cause: str | None,
-                     signatures: tuple = (), with_document: bool = True) -> MeasurementView:
+                     signatures: tuple = (), with_document: bool = True,
+                     document: dict[str, Any] | None = None) -> MeasurementView:
+    """The view of a measurement row (ORM or plain; the same attributes) and its evaluation row.
+
+    ``document``: the evaluation's document already parsed (the dict its stored JSON was made from),
+    to save parsing the stored text again.
+    """
     ev_view = None
     if evaluation is not None:
         ev = evaluation
+        if not with_document:
+            document = {}
+        elif document is None:
+            document = json.loads(ev.document)  # type: ignore[attr-defined]
         ev_view = EvaluationView(id=ev.id, verdict=ev.verdict,  # type: ignore[attr-defined]
-                                 document=json.loads(ev.document) if with_document else {},  # type: ignore[attr-defined]
+                                 document=document,
                                  spec_version_id=ev.spec_version_id, spec_version=spec_version,  # type: ignore[attr-defined]
                                  reference_id=ev.reference_id, software_version=ev.software_version,  # type: ignore[attr-defined]
                                  created_at=utc(ev.created_at))  # type: ignore[attr-defined]

@@ -37,7 +37,7 @@ from service.release.lot_states import (
 from service.release.qualification import Standing
 from service.store import repositories as repo
 from service.store import upload_records as rows
-from service.store.tables import Evaluation, Lot, Measurement, utc_now
+from service.store.tables import Lot, utc_now
 from service.store.unit_of_work import UnitOfWork
 from service.services import _shared as sh
 from service.services import evaluator
@@ -299,7 +299,8 @@ def record_measurement_with_state(
     if basis.missing is None:
         status, reason, evaluation = _evaluate(data, file_name, basis)
     sha256 = sha256_hex(data)
-    document = canonical_json(evaluation.as_dict()) if evaluation is not None else ""
+    document_dict = evaluation.as_dict() if evaluation is not None else None
+    document = canonical_json(document_dict) if document_dict is not None else ""
     document_sha256 = sha256_hex(document)
 
     with UnitOfWork(engine) as uow:  # the write lock: judge again on the latest state, then store
@@ -320,7 +321,7 @@ def record_measurement_with_state(
             "file_id": rows.insert_file(conn, data=data, sha256=sha256, created_at=received),
             "sha256": sha256, "size": len(data), "file_name": file_name, "received_at": received,
             "status": status, "reason": reason, "retest_of_id": retest_of}
-        m = Measurement(id=rows.insert_measurement(conn, values), **values)
+        m = rows.insert_measurement(conn, values)
         sh.audit(conn, actor, "measurement.recorded", "measurement", m.id, new={
             "lot": lot.code, "container": cont.number, "instrument": inst.code, "sha256": m.sha256, "size": m.size,
             "file_name": m.file_name, "status": status, "reason": reason, "retest_of_id": retest_of})
@@ -331,7 +332,7 @@ def record_measurement_with_state(
                 "measurement_id": m.id, "verdict": str(evaluation.verdict), "document": document,
                 "spec_version_id": basis.spec_id, "reference_id": basis.ref_id,
                 "software_version": __version__, "created_at": utc_now()}
-            ev_row = Evaluation(id=rows.insert_evaluation(conn, ev_values), **ev_values)
+            ev_row = rows.insert_evaluation(conn, ev_values)
             sh.audit(conn, actor, "evaluation.recorded", "evaluation", ev_row.id, new={
                 "measurement_id": m.id, "verdict": ev_row.verdict, "spec_version_id": basis.spec_id,
                 "spec_version": basis.spec_version, "reference_id": basis.ref_id,
@@ -349,7 +350,8 @@ def record_measurement_with_state(
         uow.commit()
     view = measurement_view(m, lot_code=lot.code, container=cont.number, instrument=inst.code,
                             operator=actor.printed_name, evaluation=ev_row,
-                            spec_version=basis.spec_version if ev_row else None, invalidation_cause=None)
+                            spec_version=basis.spec_version if ev_row else None, invalidation_cause=None,
+                            document=document_dict)
     if status == "unreadable":
         raise UploadUnreadable(reason, measurement=view)
     if status == "refused":

@@ -112,6 +112,39 @@ class HistoryRow:
     verdict: str | None
 
 
+@dataclass(frozen=True, kw_only=True)
+class StoredMeasurement:
+    """A measurement row as this path inserted it (its values and the new id)."""
+
+    id: int
+    lot_id: int
+    container_id: int
+    instrument_id: int
+    operator_id: int
+    file_id: int
+    sha256: str
+    size: int
+    file_name: str
+    received_at: datetime
+    status: str
+    reason: str
+    retest_of_id: int | None
+
+
+@dataclass(frozen=True, kw_only=True)
+class StoredEvaluation:
+    """An evaluation row as this path inserted it (``document`` is the stored canonical JSON)."""
+
+    id: int
+    measurement_id: int
+    verdict: str
+    document: str
+    spec_version_id: int | None
+    reference_id: int | None
+    software_version: str
+    created_at: datetime
+
+
 _ACTIVE_USER = (select(_USERS.c.id, _USERS.c.username, _USERS.c.printed_name, _USERS.c.roles)
                 .where(_USERS.c.username == bindparam("username"), _USERS.c.active.is_(True)))
 _TARGET = (
@@ -258,12 +291,12 @@ def insert_file(conn: Connection, *, data: bytes, sha256: str, created_at: datet
                                              "created_at": created_at})
 
 
-def insert_measurement(conn: Connection, values: dict[str, Any]) -> int:
-    return _inserted_id(conn, _INSERT_MEASUREMENT, values)
+def insert_measurement(conn: Connection, values: dict[str, Any]) -> StoredMeasurement:
+    return StoredMeasurement(id=_inserted_id(conn, _INSERT_MEASUREMENT, values), **values)
 
 
-def insert_evaluation(conn: Connection, values: dict[str, Any]) -> int:
-    return _inserted_id(conn, _INSERT_EVALUATION, values)
+def insert_evaluation(conn: Connection, values: dict[str, Any]) -> StoredEvaluation:
+    return StoredEvaluation(id=_inserted_id(conn, _INSERT_EVALUATION, values), **values)
 
 
 def mark_sampled(conn: Connection, container_id: int, at: datetime) -> None:

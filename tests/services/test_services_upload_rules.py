@@ -86,3 +86,15 @@ def test_the_named_operator_is_checked_before_anything_is_stored(lab) -> None:  
                                                    container=1, instrument_code=lab.instrument, data=data,
                                                    file_name="t.csv")
     assert view.operator_id == lab.tech.user_id and view.verdict == "pass" and state == "awaiting_disposition"
+
+
+def test_the_upload_answer_is_the_record_as_read_back(lab) -> None:  # type: ignore[no-untyped-def]
+    """The view an upload answers with is built from what it inserted, not read back; it must equal
+    what a later read of the stored rows gives, the evaluation document included."""
+    from service.release.digests import canonical_json
+
+    lot = receive(lab.engine, lab.tech, material_code="TOL-01", supplier_name="Northwind Solvents", containers=2)
+    answered = _upload(lab, lot, 1, seed=3)
+    read_back = uc.get_measurement(lab.engine, answered.id)
+    assert answered.evaluation is not None and answered.verdict == "pass"
+    assert canonical_json(answered.as_dict()) == canonical_json(read_back.as_dict())
