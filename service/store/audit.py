@@ -20,6 +20,7 @@ from sqlmodel import Session, col, select
 
 from service.release.actor import Actor
 from service.release.digests import GENESIS_HASH, canonical_json, event_hash
+from service.store.prepared import Prepared
 from service.store.tables import AuditEvent, utc_now
 
 SYSTEM_ACTOR = Actor(user_id=0, username="system", printed_name="Bandgate (system)")
@@ -50,10 +51,11 @@ def event_fields(ev: AuditEvent) -> dict[str, Any]:
                    old_values=ev.old_values, new_values=ev.new_values, reason=ev.reason)
 
 
-# Built once: the head of the chain and the insert are on every write path.
+# Built once and run as prepared statements (`service.store.prepared`): the head of the chain and
+# the insert are on every write path.
 _TABLE = AuditEvent.__table__
-_HEAD = select(_TABLE.c.seq, _TABLE.c.hash).order_by(_TABLE.c.seq.desc()).limit(1)
-_INSERT = insert(_TABLE)
+_HEAD = Prepared(select(_TABLE.c.seq, _TABLE.c.hash).order_by(_TABLE.c.seq.desc()).limit(1))
+_INSERT = Prepared(insert(_TABLE))
 HEAD_KEY = "bandgate_audit_head"  # Connection.info: (seq, hash) of the last event this transaction appended
 
 
@@ -79,7 +81,7 @@ def append_event(
     conn = target.connection() if isinstance(target, Session) else target
     head = conn.info.get(HEAD_KEY)
     if head is None:
-        row = conn.execute(_HEAD).first()
+        row = _HEAD.first(conn)
         head = (int(row[0]), str(row[1])) if row else (0, GENESIS_HASH)
     values: dict[str, Any] = {
         "seq": head[0] + 1,
@@ -95,7 +97,7 @@ def append_event(
     }
     values["prev_hash"] = head[1]
     values["hash"] = event_hash(prev_hash=head[1], fields=_fields(**{k: values[k] for k in _HASHED}))
-    conn.execute(_INSERT, values)
+    _INSERT.run(conn, values)
     conn.info[HEAD_KEY] = (values["seq"], values["hash"])
 
 

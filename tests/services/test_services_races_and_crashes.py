@@ -41,6 +41,7 @@ import sys, time
 from pathlib import Path
 from sqlalchemy import event
 from service import services as uc
+from service.store.audit import HEAD_KEY
 from service.store.engine import make_engine
 url, lot_code, marker, data_path = sys.argv[1], sys.argv[2], Path(sys.argv[3]), sys.argv[4]
 engine = make_engine(url)
@@ -48,16 +49,13 @@ actor = uc.get_actor(engine, "tina.tech")
 
 @event.listens_for(engine, "commit")
 def _hold_before_commit(conn):
-    # Instrumentation for the test only: the measurement, its file, its evaluation and audit events are
-    # written but not committed; say so, then wait to be killed.
-    if conn.info.get("_writing_measurement"):
-        marker.write_text("in transaction")
+    # Instrumentation for the test only: the one transaction here that appends audit events is the
+    # upload's; at its commit the measurement, its file, its evaluation and audit events are written
+    # but not committed. Say so (with what is in the transaction), then wait to be killed.
+    if conn.info.get(HEAD_KEY):
+        written = conn.exec_driver_sql("SELECT COUNT(*) FROM measurements WHERE file_name = 'killed.csv'").scalar()
+        marker.write_text(f"in transaction: {written} measurement")
         time.sleep(60)
-
-@event.listens_for(engine, "before_execute")
-def _note(conn, clauseelement, multiparams, params, execution_options):
-    if "INSERT INTO measurements" in str(clauseelement):
-        conn.info["_writing_measurement"] = True
 
 uc.record_measurement(engine, actor, lot_code=lot_code, container=1, instrument_code="FTIR-1",
                       data=Path(data_path).read_bytes(), file_name="killed.csv")
@@ -124,6 +122,7 @@ def test_writer_killed_mid_upload_leaves_no_partial_record(lab, tmp_path: Path) 
         if proc.poll() is None:
             proc.kill()
     assert proc.returncode == -signal.SIGKILL
+    assert marker.read_text() == "in transaction: 1 measurement"  # killed with the upload written, uncommitted
     assert counts() == before  # nothing of the killed upload is in the database
     assert uc.get_lot(lab.engine, lot.code).state == "quarantine"
     report = uc.verify_audit(lab.engine)

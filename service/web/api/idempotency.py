@@ -82,20 +82,25 @@ def fingerprint(method: str, path: str, payload: dict[str, Any]) -> str:
 class Write:
     """One write request under an optional idempotency key; ``run(action)`` answers it."""
 
-    def __init__(self, request: Request, principal: Principal, payload: dict[str, Any]) -> None:
+    def __init__(self, request: Request, principal: Principal,
+                 payload: dict[str, Any] | Callable[[], dict[str, Any]]) -> None:
+        """``payload``: the parsed request, or a function giving it; it is needed (and a function
+        called) only when the request carries an `Idempotency-Key`."""
         self.engine = request.app.state.engine
         self.principal = principal
         self.key = _key(request)
-        self.request_hash = fingerprint(request.method, request.url.path, payload)
+        self.payload = payload
         self.method = request.method
         self.path = request.url.path
 
     def run(self, action: Callable[[], Answer]) -> JSONResponse:
         if self.key is None:
             return action().response()
+        payload = self.payload() if callable(self.payload) else self.payload
         claimed = store.claim(
             self.engine, client_id=caller_key(self.principal), key=self.key, method=self.method,
-            path=self.path, request_hash=self.request_hash, now=datetime.now(UTC), stale_after=STALE_AFTER,
+            path=self.path, request_hash=fingerprint(self.method, self.path, payload), now=datetime.now(UTC),
+            stale_after=STALE_AFTER,
         )
         if isinstance(claimed, store.Replay):
             return Answer(status_code=claimed.status_code, body=claimed.body,

@@ -114,8 +114,10 @@ async def upload_measurement(
     upload = read_upload(file, request)
     actor = uc.NamedOperator(operator)  # checked inside the use case's own transaction
     settings = request.app.state.settings
-    payload = {"container": container, "instrument": instrument, "operator": operator,
-               "file_sha256": upload.sha256, "file_name": upload.file_name}
+
+    def payload() -> dict[str, Any]:  # the request's identity for an Idempotency-Key
+        return {"container": container, "instrument": instrument, "operator": operator,
+                "file_sha256": upload.sha256, "file_name": upload.file_name}
 
     def act() -> Answer:
         try:

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import hashlib
 from dataclasses import dataclass
+from functools import cached_property
 
 from fastapi import Request, UploadFile
 
@@ -13,8 +14,12 @@ from service import errors as e
 @dataclass(frozen=True, kw_only=True)
 class Upload:
     data: bytes
-    sha256: str
     file_name: str
+
+    @cached_property
+    def sha256(self) -> str:
+        """SHA-256 of the bytes received (computed when first asked for)."""
+        return hashlib.sha256(self.data).hexdigest()
 
 
 def read_upload(file: UploadFile, request: Request, *, field: str = "file") -> Upload:
@@ -24,7 +29,7 @@ def read_upload(file: UploadFile, request: Request, *, field: str = "file") -> U
     if len(data) > limit:  # the body limit makes this unreachable; kept as a second fence
         raise e.PayloadTooLarge(f"the file is larger than the upload limit of {limit:,} bytes")
     name = (file.filename or "").replace("\\", "/").rsplit("/", 1)[-1].replace("\x00", "")[:255]
-    return Upload(data=data, sha256=hashlib.sha256(data).hexdigest(), file_name=name)
+    return Upload(data=data, file_name=name)
 
 
 def check_text(**fields: str | None) -> None:
