@@ -7,10 +7,15 @@ They are kept in small bounded caches keyed by the SHA-256 of the axis values (t
 spectrum's data digest is computed, so the key costs nothing extra) and, for the index ranges, by
 the :class:`~service.evaluation.method.Method` too. A different axis, or a different method, is a
 different key; nothing is ever looked up by object identity or by position.
+
+The data digest itself (SHA-256 of the kind, x, then y) starts with the axis: the hash state after
+the kind and x is remembered too (:func:`axis_hash`), and taken up again only for an axis whose
+values are the remembered ones bit for bit, so a repeated axis costs a comparison, not a hash.
 """
 
 from __future__ import annotations
 
+import hashlib
 import threading
 from collections import OrderedDict
 from collections.abc import Callable, Hashable
@@ -20,7 +25,7 @@ from typing import Any, TypeVar
 import numpy as np
 from numpy.typing import NDArray
 
-__all__ = ["QualityPlan", "axis_spacing", "clear", "make_quality_plan", "median", "quality_plan"]
+__all__ = ["QualityPlan", "axis_hash", "axis_spacing", "clear", "make_quality_plan", "median", "quality_plan"]
 
 _SIZE = 32
 T = TypeVar("T")
@@ -46,6 +51,21 @@ class _Bounded:
                 self._items.popitem(last=False)
         return value
 
+    def peek(self, key: Hashable) -> Any:
+        """The entry under ``key`` (marked recently used), or None."""
+        with self._lock:
+            if key in self._items:
+                self._items.move_to_end(key)
+                return self._items[key]
+        return None
+
+    def put(self, key: Hashable, value: Any) -> None:
+        with self._lock:
+            self._items[key] = value
+            self._items.move_to_end(key)
+            while len(self._items) > self._size:
+                self._items.popitem(last=False)
+
     def clear(self) -> None:
         with self._lock:
             self._items.clear()
@@ -56,6 +76,37 @@ class _Bounded:
 
 _spacings = _Bounded(_SIZE)
 _plans = _Bounded(_SIZE)
+_hashes = _Bounded(_SIZE)
+
+
+@dataclass(frozen=True, eq=False)
+class _AxisHash:
+    bits: NDArray[np.uint64]  # the axis values as little-endian float64 bit patterns (read-only copy)
+    state: Any  # hashlib SHA-256 object after the kind and the axis; only ever copied
+    key: bytes  # its digest: the axis key
+
+
+def axis_hash(kind: str, x: NDArray[np.float64]) -> tuple[Any, bytes]:
+    """(a SHA-256 object that has taken ``kind`` (UTF-8) and then ``x`` as little-endian float64, its digest).
+
+    The object is new to the caller, who goes on to feed it the values. The state is remembered per
+    (kind, length, first and last value), and used only when the whole axis equals the remembered
+    one bit for bit; otherwise the axis is hashed (and remembered) afresh.
+    """
+    xa = np.ascontiguousarray(x, dtype="<f8")
+    bits = xa.view(np.uint64)
+    probe = (kind, xa.size, bits[0].item(), bits[-1].item()) if xa.size else None
+    found: _AxisHash | None = _hashes.peek(probe) if probe is not None else None
+    if found is not None and np.array_equal(found.bits, bits):
+        return found.state.copy(), found.key
+    h = hashlib.sha256(kind.encode())
+    h.update(xa)
+    key = h.digest()
+    if probe is not None:
+        kept = bits.copy()
+        kept.setflags(write=False)
+        _hashes.put(probe, _AxisHash(bits=kept, state=h.copy(), key=key))
+    return h, key
 
 
 def median(values: NDArray[np.float64]) -> float:
@@ -143,3 +194,4 @@ def clear() -> None:
     """Forget every remembered axis (tests; the caches are bounded in any case)."""
     _spacings.clear()
     _plans.clear()
+    _hashes.clear()

@@ -8,6 +8,7 @@ lines each on the hot path.
 
 from __future__ import annotations
 
+import math
 from dataclasses import replace
 from functools import lru_cache
 
@@ -25,8 +26,8 @@ from service.spectra import (
 
 F64 = NDArray[np.float64]
 
-__all__ = ["Band", "all_bands", "baseline", "centred_unit", "noise_rms", "noise_rms_between", "savgol_derivative",
-           "unit"]
+__all__ = ["Band", "all_bands", "baseline", "centred_unit", "mean", "noise_rms", "noise_rms_between", "norm",
+           "savgol_derivative", "unit"]
 
 
 def baseline(x: F64, y: F64, *, method: str, lam: float, p: float, stride: int = 1) -> F64:
@@ -98,17 +99,30 @@ def noise_rms_between(y: F64, i0: int, i1: int) -> float:
     """:func:`noise_rms` of the points ``y[i0:i1]`` (at least 3)."""
     seg = y[i0:i1]
     d2 = seg[:-2] - 2.0 * seg[1:-1] + seg[2:]
-    return float(np.sqrt(np.mean(d2 * d2) / 6.0))
+    return math.sqrt(mean(d2 * d2) / 6.0)
+
+
+def mean(v: F64) -> float:
+    """``float(np.mean(v))`` of a 1-D float64 array: the same pairwise sum divided by the count,
+    without the wrapper's argument handling (a few µs a call on the hot path)."""
+    return float(np.add.reduce(v) / v.size)
+
+
+def norm(v: F64) -> float:
+    """``float(np.linalg.norm(v))`` of a 1-D float64 array: the square root of ``v·v`` over ``v.ravel(order="K")``,
+    as that function takes it (a strided view is copied first there too: BLAS sums it in another order)."""
+    flat = v.ravel(order="K")
+    return math.sqrt(flat.dot(flat))
 
 
 def centred_unit(v: F64) -> F64:
     """Mean-centred, unit-length copy (its dot product with another is their Pearson r)."""
-    c = v - v.mean()
-    n = float(np.linalg.norm(c))
+    c = v - mean(v)
+    n = norm(c)
     return c / n if n > 0 else c
 
 
 def unit(v: F64) -> F64:
     """Vector-normalised copy (unit Euclidean length)."""
-    n = float(np.linalg.norm(v))
+    n = norm(v)
     return v / n if n > 0 else v

@@ -14,7 +14,6 @@ Euclidean distance).
 
 from __future__ import annotations
 
-import hashlib
 import weakref
 from dataclasses import dataclass
 from functools import cached_property, lru_cache
@@ -24,7 +23,7 @@ import numpy as np
 from numpy.typing import NDArray
 
 from service.evaluation import _kernels as k
-from service.evaluation._axis import axis_spacing
+from service.evaluation._axis import axis_hash, axis_spacing
 from service.evaluation.specification import Specification
 from service.spectra import to_absorbance
 from service.spectra.model import Spectrum, YKind
@@ -206,9 +205,7 @@ def spectrum_facts(s: Spectrum) -> SpectrumFacts:
     and the spacing per axis (one instrument sends the same axis with every file)."""
     found = _facts.get(s)
     if found is None:
-        h = hashlib.sha256(s.kind.value.encode())
-        h.update(np.ascontiguousarray(s.x, dtype="<f8"))
-        axis_key = h.copy().digest()
+        h, axis_key = axis_hash(s.kind.value, s.x)
         h.update(np.ascontiguousarray(s.y, dtype="<f8"))
         found = _facts[s] = SpectrumFacts(digest=h.hexdigest(), spacing=axis_spacing(axis_key, s.x),
                                           axis_key=axis_key)

@@ -21,19 +21,42 @@ def json_safe(value: Any) -> Any:
     """Plain JSON values: floats rounded to 6 significant digits, NaN/inf as None, tuples as lists.
 
     The plain built-in types are dispatched on their exact type (the common case, and the cost of
-    every stored document); anything else (numpy scalars, subclasses) goes through
-    :func:`_json_safe_other`, whose rules are the same.
+    every stored document); inside a dict or list the leaves (text, whole numbers, booleans, None
+    and floats) are handled in place rather than by a call per leaf. Anything else (numpy scalars,
+    subclasses) goes through :func:`_json_safe_other`, whose rules are the same.
     """
     kind = type(value)
+    if kind is dict:
+        out: dict[str, Any] = {}
+        for k, v in value.items():
+            key = k if type(k) is str else str(k)
+            t = type(v)
+            if t is str or t is int or t is bool or v is None:
+                out[key] = v
+            elif t is float:
+                out[key] = float(f"{v:.6g}") if _isfinite(v) else None
+            else:
+                out[key] = json_safe(v)
+        return out
+    if kind is list or kind is tuple:
+        items: list[Any] = []
+        for v in value:
+            t = type(v)
+            if t is str or t is int or t is bool or v is None:
+                items.append(v)
+            elif t is float:
+                items.append(float(f"{v:.6g}") if _isfinite(v) else None)
+            else:
+                items.append(json_safe(v))
+        return items
     if kind is float:
-        return float(f"{value:.6g}") if math.isfinite(value) else None
+        return float(f"{value:.6g}") if _isfinite(value) else None
     if kind is str or kind is int or kind is bool or value is None:
         return value
-    if kind is dict:
-        return {str(k): json_safe(v) for k, v in value.items()}
-    if kind is list or kind is tuple:
-        return [json_safe(v) for v in value]
     return _json_safe_other(value)
+
+
+_isfinite = math.isfinite
 
 
 def _json_safe_other(value: Any) -> Any:

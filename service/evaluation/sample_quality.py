@@ -8,6 +8,7 @@ failed; suspicious but usable findings become warnings.
 
 from __future__ import annotations
 
+import math
 from functools import lru_cache
 
 import numpy as np
@@ -54,7 +55,7 @@ def _water_vapour(y: np.ndarray, noise: float, signal: float, region: tuple[int,
     i0, i1, window = region
     seg = y[i0:i1]
     resid = seg - _smoother(window).apply(seg)
-    rms = float(np.sqrt(np.mean(resid * resid)))
+    rms = math.sqrt(k.mean(resid * resid))
     return float(np.sqrt(max(0.0, rms * rms - noise * noise))) / signal
 
 

@@ -28,7 +28,10 @@ def _missing(what: str, exc: ImportError) -> ServiceUnavailable:
 
 
 def read_spectrum(data: bytes, *, file_name: str = "") -> Any:
-    """Read an uploaded file into a Spectrum; raises the reader's UnusableInput with its message."""
+    """Read an uploaded file into a Spectrum; raises the reader's UnusableInput with its message.
+
+    The spectrum's ``meta.sha256`` is the SHA-256 (hex) of ``data``: callers may keep it instead of hashing again.
+    """
     try:
         from service.spectra.readers import read_spectrum as _read
     except ImportError as exc:  # pragma: no cover - only in a broken installation

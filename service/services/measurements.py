@@ -245,19 +245,23 @@ def _basis_changed(conn: Connection, material_id: int, basis: _Basis) -> str | N
     return None
 
 
-def _evaluate(data: bytes, file_name: str, basis: _Basis) -> tuple[str, str, Any]:
-    """(status, reason, evaluation) -- runs outside the write lock."""
+def _evaluate(data: bytes, file_name: str, basis: _Basis) -> tuple[str, str, Any, str]:
+    """(status, reason, evaluation, the file's SHA-256 as the reader took it or "") -- runs outside the write lock.
+
+    The reader hashes the very bytes it reads (``meta.sha256``), so the upload does not hash them again.
+    """
     try:
         sample = evaluator.read_spectrum(data, file_name=file_name)
     except UnusableInput as exc:
-        return "unreadable", exc.message, None
+        return "unreadable", exc.message, None, ""
+    file_sha256 = sample.meta.sha256
     try:
         spec = evaluator.parse_specification(basis.spec_doc, stored_text=basis.spec_text)  # type: ignore[arg-type]
         result = evaluator.evaluate(sample=sample, spec=spec, reference=basis.reference, library=basis.library,
                                     reference_preparation=basis.ref_preparation)
     except BandgateError as exc:
-        return "unreadable", f"the spectrum could not be evaluated: {exc.message}", None
-    return "accepted", "", result
+        return "unreadable", f"the spectrum could not be evaluated: {exc.message}", None, file_sha256
+    return "accepted", "", result, file_sha256
 
 
 def record_measurement(engine: Engine, actor: Actor, *, lot_code: str, container: int, instrument_code: str,
@@ -295,10 +299,10 @@ def record_measurement_with_state(
         actor = _operator(conn, actor)
         target = _target(conn, lot_code=lot_code, container=container, instrument_code=instrument_code)
         basis = _basis(conn, target.lot.material_id)
-    status, reason, evaluation = "refused", basis.missing or "", None
+    status, reason, evaluation, sha256 = "refused", basis.missing or "", None, ""
     if basis.missing is None:
-        status, reason, evaluation = _evaluate(data, file_name, basis)
-    sha256 = sha256_hex(data)
+        status, reason, evaluation, sha256 = _evaluate(data, file_name, basis)
+    sha256 = sha256 or sha256_hex(data)
     document_dict = evaluation.as_dict() if evaluation is not None else None
     document = canonical_json(document_dict) if document_dict is not None else ""
     document_sha256 = sha256_hex(document)

@@ -66,8 +66,18 @@ def parabolic_offset(y_left: float, y_centre: float, y_right: float) -> float:
     return float(np.clip(0.5 * (y_left - y_right) / denom, -0.5, 0.5))
 
 
-def _positions(x: NDArray[np.float64], y: NDArray[np.float64], peaks: NDArray[np.intp]) -> NDArray[np.float64]:
-    """:func:`parabolic_offset` at every maximum, in one pass (maxima at either end keep their point)."""
+_FEW_PEAKS = 16  # up to this many maxima a loop over Python floats beats some twenty small numpy calls
+
+
+def _positions(x: NDArray[np.float64], y: NDArray[np.float64], peaks: NDArray[np.intp]) -> list[float]:
+    """:func:`parabolic_offset` at every maximum (maxima at either end keep their point).
+
+    Few maxima are refined one by one on Python floats, many in one numpy pass; both take the same
+    IEEE 754 operations in the same order (the offset's quotient, its clip to ±½, one product and
+    one sum), so they give the same bits.
+    """
+    if peaks.size <= _FEW_PEAKS:
+        return _positions_one_by_one(x, y, peaks)
     pos = x[peaks]
     inner = (peaks > 0) & (peaks < x.size - 1)
     every = bool(inner.all())
@@ -80,9 +90,24 @@ def _positions(x: NDArray[np.float64], y: NDArray[np.float64], peaks: NDArray[np
     step = np.where(delta >= 0, x[p + 1] - xp, xp - x[p - 1])
     refined = xp + delta * step
     if every:
-        return refined
+        return refined.tolist()  # type: ignore[no-any-return]
     pos[inner] = refined
-    return pos
+    return pos.tolist()  # type: ignore[no-any-return]
+
+
+def _positions_one_by_one(x: NDArray[np.float64], y: NDArray[np.float64], peaks: NDArray[np.intp]) -> list[float]:
+    last = x.size - 1
+    out = []
+    for i in peaks.tolist():
+        xi = x.item(i)
+        if 0 < i < last:
+            yl, y0, yr = y.item(i - 1), y.item(i), y.item(i + 1)
+            denom = yl - 2.0 * y0 + yr
+            d = 0.5 * (yl - yr) / denom if denom != 0.0 else 0.0
+            d = min(max(d, -0.5), 0.5)
+            xi = xi + d * (x.item(i + 1) - xi if d >= 0 else xi - x.item(i - 1))
+        out.append(xi)
+    return out
 
 
 def _centroids(x: NDArray[np.float64], y: NDArray[np.float64], peaks: NDArray[np.intp], half: NDArray[np.float64],
@@ -167,13 +192,13 @@ def find_bands(
     if position_method == "parabolic":
         positions = _positions(xa, ya, peaks)
     else:
-        positions = _centroids(xa, ya, peaks, base_at_peak + 0.5 * heights, widths[2], widths[3])
+        positions = _centroids(xa, ya, peaks, base_at_peak + 0.5 * heights, widths[2], widths[3]).tolist()
     ref = float(heights.max()) if reference_height is None else float(reference_height)
     if not ref > 0:
         raise InvalidInput(f"reference height must be positive, got {ref!r}")
     strong, medium, broad = classes.strong, classes.medium, classes.broad_fwhm_cm1
     bands = []
-    for pos, h, w, prom, i in zip(positions.tolist(), heights.tolist(), fwhm.tolist(),
+    for pos, h, w, prom, i in zip(positions, heights.tolist(), fwhm.tolist(),
                                   props["prominences"].tolist(), peaks.tolist()):
         rel = h / ref
         bands.append(Band(

@@ -105,27 +105,27 @@ class Spectrum:
             raise SpectrumError(
                 f"only {xa.size} points; a spectrum needs at least {min_points} (is this a peak table or a fragment?)"
             )
-        bad = ~np.isfinite(xa) | ~np.isfinite(ya)
-        if bad.any():
+        if not (np.isfinite(xa).all() and np.isfinite(ya).all()):
+            bad = ~np.isfinite(xa) | ~np.isfinite(ya)
             i = int(np.flatnonzero(bad)[0])
             raise SpectrumError(
                 f"{int(bad.sum())} non-finite value(s), first at point {i + 1} (x={xa[i]!r}, y={ya[i]!r}); "
                 "export the spectrum again without blanks or NaN"
             )
-        dx = np.diff(xa)
-        if (dx > 0).all():  # already ascending (a stable sort would change nothing)
+        dx = xa[1:] - xa[:-1]
+        if (dx > 0).all():  # strictly ascending (a stable sort would change nothing; no value repeats)
             xs, ys = xa, ya
         elif (dx < 0).all():  # strictly descending, as many exports: the sort is a reversal
-            xs, ys, dx = xa[::-1], ya[::-1], -dx[::-1]
+            xs, ys = xa[::-1], ya[::-1]
         else:
             order = np.argsort(xa, kind="stable")
             xs, ys = xa[order], ya[order]
-            dx = np.diff(xs)
-        if (dx <= 0).any():
-            i = int(np.flatnonzero(dx <= 0)[0])
-            raise SpectrumError(
-                f"the axis repeats the value {xs[i]:g} cm⁻¹; every point needs its own wavenumber"
-            )
+            dx = xs[1:] - xs[:-1]
+            if (dx <= 0).any():
+                i = int(np.flatnonzero(dx <= 0)[0])
+                raise SpectrumError(
+                    f"the axis repeats the value {xs[i]:g} cm⁻¹; every point needs its own wavenumber"
+                )
         return cls(_frozen(xs), _frozen(ys), kind, meta or SpectrumMeta(), tuple(notes))
 
     def with_values(self, y: Any, kind: YKind | str | None = None, *, note: str | None = None) -> "Spectrum":

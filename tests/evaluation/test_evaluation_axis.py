@@ -149,3 +149,34 @@ def test_a_new_object_on_a_known_axis_gets_the_same_record() -> None:
     first = evaluate(sample, spec, reference).as_dict()
     again = evaluate(replace(sample), spec, reference).as_dict()  # new object: digest again, axis remembered
     assert first == again
+
+
+def _sha256_oracle(kind: str, x: np.ndarray, y: np.ndarray) -> str:
+    """The data digest as documented: SHA-256 of the kind (UTF-8), then x and y as little-endian float64."""
+    import hashlib
+
+    return hashlib.sha256(kind.encode() + np.asarray(x, "<f8").tobytes() + np.asarray(y, "<f8").tobytes()).hexdigest()
+
+
+def test_the_remembered_axis_hash_gives_the_documented_digest_and_never_another_axis() -> None:
+    axis.clear()
+    rng = np.random.default_rng(3)
+    x = np.arange(600.0, 4000.0, 1.0)
+    moved = x.copy()
+    moved[1000] += 1e-9  # same kind, length, first and last value: must not take up the remembered state
+    cases = [(x, rng.normal(size=x.size)), (x.copy(), rng.normal(size=x.size)), (moved, np.zeros(x.size)),
+             (x, np.ones(x.size)), (moved, np.ones(x.size))]
+    for kind in ("absorbance", "transmittance"):
+        for xs, ys in cases:
+            s = Spectrum.create(xs, ys, kind)
+            facts = spectrum_facts(s)
+            assert facts.digest == _sha256_oracle(kind, xs, ys)
+            assert facts.axis_key == bytes.fromhex(_sha256_oracle(kind, xs, np.zeros(0)))
+    raw = np.array([0.0, 1.0, 2.0, 3.0])
+    h1, k1 = axis.axis_hash("absorbance", raw)
+    h2, k2 = axis.axis_hash("absorbance", np.array([0.0, 1.0, -0.0, 3.0]))  # equal as numbers, not as bits
+    assert k1 != k2 and h1 is not h2
+    h3, k3 = axis.axis_hash("absorbance", raw)
+    assert k3 == k1 and h3.digest() == k1  # a fresh object, still at the end of the axis
+    h3.update(b"more")
+    assert axis.axis_hash("absorbance", raw)[0].digest() == k1  # the remembered state was not moved on

@@ -86,3 +86,14 @@ def test_kept_indices_of_a_window_are_the_points_checked_one_by_one(lo: float, h
     assert not m.kept_between(lo, hi).flags.writeable and not m.kept_mask.flags.writeable
     other = Method(lo=650.0, hi=3800.0, excluded=())  # another method: its own answer
     assert other.kept_between(lo, hi).tolist() == [i for i, g in enumerate(other.grid.tolist()) if lo <= g <= hi]
+
+
+@pytest.mark.parametrize("size", [1, 2, 7, 128, 3151, 100_001])
+def test_mean_and_norm_are_numpys_bit_for_bit(size: int) -> None:
+    """The hot path's ``mean`` and ``norm`` give exactly ``np.mean`` and ``np.linalg.norm`` (the oracles)."""
+    from service.evaluation._kernels import mean, norm
+
+    rng = np.random.default_rng(size)
+    for v in (rng.normal(0.3, 2.0, size), rng.uniform(-1e-3, 1e-3, size) + 1e4, np.full(size, 0.1)):
+        assert mean(v) == float(np.mean(v)) and norm(v) == float(np.linalg.norm(v))
+        assert mean(v[::3]) == float(np.mean(v[::3])) and norm(v[::3]) == float(np.linalg.norm(v[::3]))

@@ -241,6 +241,41 @@ def test_fixed_layout_values_are_float_bit_for_bit(cols: list[tuple[int, int, in
     assert (np.signbit(got) == np.signbit(np.array(expect))).all()
 
 
+@pytest.mark.parametrize("point", ["none", "inside", "in front"])
+@pytest.mark.parametrize("digits", [1, 6, 7, 8, 9, 15])
+def test_fixed_layout_is_exact_either_side_of_the_single_precision_bound(digits: int, point: str) -> None:
+    """Fields of up to 7 digits are summed in float32, longer ones in float64: on both sides of that
+    bound the largest mantissa (all nines), the smallest and random ones give float(field) bit for bit."""
+    rng = np.random.default_rng(digits)
+    mantissas = [10**digits - 1, 0, 1, 10 ** (digits - 1)] + [int(rng.integers(0, 10**digits)) for _ in range(60)]
+    after = {"none": 0, "inside": digits // 2, "in front": digits}[point]
+    rows, expect = [], []
+    for i, m in enumerate(mantissas):
+        text = str(m).zfill(digits)
+        field = text[:digits - after] + ("." + text[digits - after:] if after else "")
+        rows.append(f"{1000 + i}.5,{field},-{field}")
+        expect.append([float(f"{1000 + i}.5"), float(field), float(f"-{field}")])
+    got = read_fixed_layout("\n".join(rows) + "\n", sep=",", decimal_comma=False, width=3)
+    assert got is not None, "one layout: the shortcut must take it"
+    assert bits(got) == bits(np.array(expect))
+    assert (np.signbit(got) == np.signbit(np.array(expect))).all()
+
+
+def test_a_run_too_long_to_keep_its_tiled_layout_reads_the_same() -> None:
+    """Runs above MAX_TILED_BYTES are compared against a layout tiled for them alone (not remembered);
+    the values are float(field) bit for bit there too, and the run still ends at the first row of another layout."""
+    from service.spectra.fixed_layout import MAX_TILED_BYTES
+
+    rng = np.random.default_rng(5)
+    n = MAX_TILED_BYTES // 19 + 500
+    rows = [f"{1000 + i * 0.1:.4f},{v:.6f}" for i, v in enumerate(rng.uniform(0, 1, n))]
+    rows[-7] = "12345.678,0.500000"  # as long, another layout (the point moved): the run ends there
+    assert len(rows[0]) + 1 == 19 and 19 * (n - 7) > MAX_TILED_BYTES
+    got = read_fixed_layout("\n".join(rows) + "\n", sep=",", decimal_comma=False, width=2)
+    assert got is not None
+    assert bits(got) == bits(np.array([[float(f) for f in r.split(",")] for r in rows]))
+
+
 @pytest.mark.parametrize(
     ("rows", "sep", "dc"),
     [

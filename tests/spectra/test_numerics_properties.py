@@ -79,3 +79,35 @@ def test_assess_quality_never_raises_on_any_absorbance_spectrum(y, spacing) -> N
     assert report.outcome in ("pass", "warn", "fail")
     for f in report.findings:
         assert f.measured is None or np.isfinite(f.measured)
+
+
+@SETTINGS
+@given(st.one_of(st.lists(st.integers(0, 60), min_size=16, max_size=80),
+                 st.lists(st.integers(0, 3000), min_size=16, max_size=80, unique=True)),
+       st.sampled_from(["as given", "ascending", "descending"]),
+       st.sampled_from([None, "nan in x", "inf in y"]))
+def test_spectrum_create_sorts_like_a_stable_argsort_and_names_the_first_bad_point(xs, order, flaw) -> None:
+    """Oracle: ``np.argsort(kind="stable")`` and the refusals' own wording, for any order of the axis."""
+    import pytest
+
+    from service.spectra import SpectrumError
+
+    x = np.array(sorted(xs) if order == "ascending" else sorted(xs, reverse=True) if order == "descending" else xs,
+                 dtype=float) + 400.0
+    y = np.arange(x.size, dtype=float)
+    if flaw == "nan in x":
+        x[3] = np.nan
+    elif flaw == "inf in y":
+        y[5] = np.inf
+    if flaw is not None:
+        with pytest.raises(SpectrumError, match=rf"^1 non-finite value\(s\), first at point {4 if flaw == 'nan in x' else 6} "):
+            Spectrum.create(x, y, "absorbance")
+        return
+    oracle = np.argsort(x, kind="stable")
+    repeated = np.flatnonzero(np.diff(x[oracle]) <= 0)
+    if repeated.size:
+        with pytest.raises(SpectrumError, match=rf"repeats the value {x[oracle][repeated[0]]:g} cm"):
+            Spectrum.create(x, y, "absorbance")
+        return
+    s = Spectrum.create(x, y, "absorbance")
+    assert s.x.tobytes() == x[oracle].tobytes() and s.y.tobytes() == y[oracle].tobytes()
